@@ -1,0 +1,3 @@
+from composer.cli import main
+
+raise SystemExit(main())

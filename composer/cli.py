@@ -1,0 +1,103 @@
+"""The ``rowcast`` command line: a thin ``main()`` over library objects.
+
+Each subcommand lives in its own module exposing ``configure(parser)`` and ``run(args) -> int``;
+this file only lists them. Errors that are values (:class:`~composer.errors.RowcastError`) become one
+line on stderr and their exit status (2 bad input, 3 device or link); nothing prints a traceback.
+
+Exit codes: 0 ok, 1 the check found violations, 2 bad input or usage, 3 device or link error.
+"""
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+
+from . import __version__
+from .errors import EXIT_INPUT, RowcastError
+
+__all__ = ["main", "COMMANDS"]
+
+# name -> (module, one-line help)
+COMMANDS: dict[str, tuple[str, str]] = {
+    "edit": ("composer.tui.command", "open a pattern in the terminal composer"),
+    "check": ("composer.commands.check", "compute every frame's currents and flag what is over a limit"),
+    "design": ("composer.commands.design", "choose column resistors for a target LED current"),
+    "spice": ("composer.commands.spice", "write a SPICE netlist of one row of one frame"),
+    "export": ("composer.commands.export", "write C tables, a GIF/PNG preview or JSON"),
+    "import": ("composer.commands.import_image", "turn an image or GIF into a pattern"),
+    "text": ("composer.commands.text", "make a scrolling-text pattern"),
+    "bringup": ("composer.commands.bringup", "make a wiring test pattern for a new panel"),
+    "stream": ("transport.commands.stream", "play a pattern on a receiver over a serial link"),
+    "ports": ("transport.commands.ports", "list serial ports with descriptions and USB VID:PID"),
+    "sim": ("transport.commands.sim", "start the receiver firmware in the AVR simulator"),
+    "profiles": ("composer.commands.profiles", "list the bundled hardware profiles"),
+    "profile": ("composer.commands.profile_show", "show one resolved, validated profile"),
+}
+
+EPILOG = "exit status: 0 ok, 1 the check found violations, 2 bad input or usage, 3 device or link error"
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that reports usage errors in one line with exit status 2."""
+
+    def error(self, message: str) -> None:  # type: ignore[override]
+        sys.stderr.write(f"{self.prog}: {message} (see {self.prog} --help)\n")
+        raise SystemExit(EXIT_INPUT)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = _Parser(prog="rowcast", description="Compose, check, stream and export animations for "
+                     "multiplexed two-colour LED dot-matrix panels.", epilog=EPILOG)
+    parser.add_argument("--version", action="version", version=f"rowcast {__version__}")
+    subs = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    for name, (module_name, help_text) in COMMANDS.items():
+        sub = subs.add_parser(name, help=help_text, description=help_text, epilog=EPILOG)
+        sub.set_defaults(_module=module_name)
+        try:
+            module = importlib.import_module(module_name)
+        except ModuleNotFoundError as exc:
+            if exc.name and module_name.startswith(exc.name):
+                sub.set_defaults(_missing=True)
+                continue
+            raise
+        module.configure(sub)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    argv = sys.argv[1:] if argv is None else argv
+    try:
+        if not argv:
+            return _default()
+        parser = build_parser()
+        args = parser.parse_args(argv)
+        if args.command is None:
+            parser.print_help()
+            return EXIT_INPUT
+        if getattr(args, "_missing", False):
+            sys.stderr.write(f"rowcast {args.command}: this command is not part of this build\n")
+            return EXIT_INPUT
+        module = importlib.import_module(args._module)
+        return int(module.run(args) or 0)
+    except RowcastError as err:
+        sys.stderr.write(f"rowcast: {err}\n")
+        return err.exit_code
+    except KeyboardInterrupt:
+        sys.stderr.write("rowcast: interrupted\n")
+        return 130
+    except BrokenPipeError:
+        return 0
+
+
+def _default() -> int:
+    """No arguments: the composer on the bundled demo with the simulated receiver as preview."""
+    try:
+        tui = importlib.import_module("composer.tui.command")
+    except ModuleNotFoundError:
+        from .commands.summary import demo_summary
+        return demo_summary()
+    return tui.run_demo()
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())

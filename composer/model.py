@@ -1,0 +1,239 @@
+"""The animation model: frames of two-colour LED states, UI-free.
+
+An :class:`Animation` holds ``frames``, a ``(frames, rows, cols)`` ``uint8`` array whose values are
+LED states (bit 0 red, bit 1 green; both bits = amber), ``durations_ms`` (one integer per frame),
+a ``name``, free ``notes`` and the ``profile`` reference it was drawn for.
+
+Frame operations (shift, mirror, rotate, invert, clear, region copy/paste) are pure functions of a
+2-D frame returning a new frame; frame-list operations are methods that change the animation in
+place. Both raise :class:`~composer.errors.InputError` for impossible requests, so the composer,
+the generators and the CLI report them the same way.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .errors import InputError
+
+__all__ = [
+    "OFF", "RED", "GREEN", "AMBER", "STATES", "MAX_FRAMES", "MAX_SIDE", "MIN_MS", "MAX_MS", "Animation",
+    "shift", "mirror", "rotate", "invert", "clear", "copy_region", "paste_region", "check_frame_array",
+]
+
+OFF, RED, GREEN, AMBER = 0, 1, 2, 3
+STATES = (OFF, RED, GREEN, AMBER)
+MAX_FRAMES = 10_000
+MAX_SIDE = 256
+MIN_MS = 1
+MAX_MS = 3_600_000  # an hour per frame is already a still picture
+DEFAULT_MS = 100
+
+
+def check_frame_array(frames: np.ndarray) -> np.ndarray:
+    frames = np.asarray(frames)
+    if frames.ndim != 3:
+        raise InputError(f"frames must be a (frames, rows, cols) array, got {frames.ndim} dimensions")
+    n, rows, cols = frames.shape
+    if not 1 <= n <= MAX_FRAMES:
+        raise InputError(f"{n} frames: an animation holds 1 to {MAX_FRAMES} frames")
+    if not (1 <= rows <= MAX_SIDE and 1 <= cols <= MAX_SIDE):
+        raise InputError(f"{rows}x{cols} LEDs: at most {MAX_SIDE}x{MAX_SIDE}")
+    if frames.size and int(frames.max(initial=0)) > AMBER:
+        raise InputError("LED states must be 0 (off), 1 (red), 2 (green) or 3 (amber)")
+    return frames.astype(np.uint8, copy=False)
+
+
+def _check_ms(ms: int, where: str = "duration") -> int:
+    if isinstance(ms, bool) or not isinstance(ms, (int, np.integer)):
+        raise InputError(f"{where} must be a whole number of milliseconds, got {ms!r}")
+    if not MIN_MS <= int(ms) <= MAX_MS:
+        raise InputError(f"{where} {int(ms)} ms is outside {MIN_MS}..{MAX_MS} ms")
+    return int(ms)
+
+
+@dataclass
+class Animation:
+    frames: np.ndarray
+    durations_ms: np.ndarray
+    name: str = "untitled"
+    notes: str = ""
+    profile: str = "bench-8x8"
+    extra: dict = field(default_factory=dict)
+
+    def __post_init__(self) -> None:
+        self.frames = check_frame_array(self.frames)
+        self.durations_ms = np.asarray(self.durations_ms, dtype=np.int64).reshape(-1)
+        if self.durations_ms.shape[0] != self.frames.shape[0]:
+            raise InputError(f"{self.frames.shape[0]} frames but {self.durations_ms.shape[0]} durations")
+        for i, ms in enumerate(self.durations_ms.tolist()):
+            _check_ms(ms, f"frame {i}: duration")
+
+    # -- construction ------------------------------------------------------------------------
+    @classmethod
+    def blank(cls, rows: int, cols: int, frames: int = 1, ms: int = DEFAULT_MS, **kw) -> "Animation":
+        return cls(np.zeros((frames, rows, cols), np.uint8), np.full(frames, ms), **kw)
+
+    def copy(self) -> "Animation":
+        return Animation(self.frames.copy(), self.durations_ms.copy(), self.name, self.notes, self.profile,
+                         dict(self.extra))
+
+    # -- shape -------------------------------------------------------------------------------
+    @property
+    def n_frames(self) -> int:
+        return int(self.frames.shape[0])
+
+    @property
+    def rows(self) -> int:
+        return int(self.frames.shape[1])
+
+    @property
+    def cols(self) -> int:
+        return int(self.frames.shape[2])
+
+    @property
+    def total_ms(self) -> int:
+        return int(self.durations_ms.sum())
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, Animation):
+            return NotImplemented
+        return (self.frames.shape == other.frames.shape and bool(np.array_equal(self.frames, other.frames))
+                and bool(np.array_equal(self.durations_ms, other.durations_ms)) and self.name == other.name
+                and self.notes == other.notes and self.profile == other.profile)
+
+    def _index(self, i: int, *, end_ok: bool = False) -> int:
+        top = self.n_frames + (1 if end_ok else 0)
+        if isinstance(i, bool) or not isinstance(i, (int, np.integer)) or not 0 <= i < top:
+            raise InputError(f"frame {i} does not exist (0..{top - 1})")
+        return int(i)
+
+    # -- frame list operations (in place) ----------------------------------------------------
+    def insert(self, at: int, frame: np.ndarray | None = None, ms: int | None = None) -> None:
+        at = self._index(at, end_ok=True)
+        if self.n_frames >= MAX_FRAMES:
+            raise InputError(f"an animation holds at most {MAX_FRAMES} frames")
+        if frame is None:
+            frame = np.zeros((self.rows, self.cols), np.uint8)
+        frame = np.asarray(frame, np.uint8)
+        if frame.shape != (self.rows, self.cols):
+            raise InputError(f"frame is {frame.shape[0]}x{frame.shape[1]}, the animation is "
+                             f"{self.rows}x{self.cols}")
+        ms = _check_ms(DEFAULT_MS if ms is None else ms)
+        self.frames = np.insert(self.frames, at, frame, axis=0)
+        self.durations_ms = np.insert(self.durations_ms, at, ms)
+
+    def duplicate(self, i: int) -> None:
+        """Insert a copy of frame ``i`` right after it."""
+        i = self._index(i)
+        self.insert(i + 1, self.frames[i].copy(), int(self.durations_ms[i]))
+
+    def delete(self, i: int) -> None:
+        i = self._index(i)
+        if self.n_frames == 1:
+            raise InputError("cannot delete the only frame")
+        self.frames = np.delete(self.frames, i, axis=0)
+        self.durations_ms = np.delete(self.durations_ms, i)
+
+    def move(self, i: int, to: int) -> None:
+        """Move frame ``i`` so that it ends up at index ``to``."""
+        i, to = self._index(i), self._index(to)
+        order = list(range(self.n_frames))
+        order.insert(to, order.pop(i))
+        self.frames = self.frames[order]
+        self.durations_ms = self.durations_ms[order]
+
+    def set_duration(self, indices, ms: int) -> None:
+        """Set the duration of one frame or of a selection of frames."""
+        ms = _check_ms(ms)
+        idx = [self._index(i) for i in ([indices] if isinstance(indices, (int, np.integer)) else indices)]
+        self.durations_ms[idx] = ms
+
+    def set_frame(self, i: int, frame: np.ndarray) -> None:
+        i = self._index(i)
+        frame = np.asarray(frame)
+        if frame.shape != (self.rows, self.cols):
+            raise InputError(f"frame is {frame.shape}, the animation is {self.rows}x{self.cols}")
+        if frame.size and int(frame.max()) > AMBER:
+            raise InputError("LED states must be 0..3")
+        self.frames[i] = frame
+
+
+# -- frame operations (pure) -----------------------------------------------------------------
+def shift(frame: np.ndarray, d_rows: int, d_cols: int, *, wrap: bool) -> np.ndarray:
+    """Move the picture by (d_rows, d_cols); with ``wrap`` what leaves one edge enters the other."""
+    if wrap:
+        return np.roll(frame, (d_rows, d_cols), axis=(0, 1))
+    rows, cols = frame.shape
+    out = np.zeros_like(frame)
+    src_r = slice(max(0, -d_rows), min(rows, rows - d_rows))
+    dst_r = slice(max(0, d_rows), min(rows, rows + d_rows))
+    src_c = slice(max(0, -d_cols), min(cols, cols - d_cols))
+    dst_c = slice(max(0, d_cols), min(cols, cols + d_cols))
+    if src_r.start < src_r.stop and src_c.start < src_c.stop:
+        out[dst_r, dst_c] = frame[src_r, src_c]
+    return out
+
+
+def mirror(frame: np.ndarray, axis: str) -> np.ndarray:
+    """``axis="horizontal"`` flips left-right; ``"vertical"`` flips top-bottom."""
+    if axis == "horizontal":
+        return frame[:, ::-1].copy()
+    if axis == "vertical":
+        return frame[::-1, :].copy()
+    raise InputError(f'mirror axis must be "horizontal" or "vertical", not "{axis}"')
+
+
+def rotate(frame: np.ndarray, quarter_turns: int = 1) -> np.ndarray:
+    """Rotate clockwise by quarter turns; only square panels keep their shape."""
+    rows, cols = frame.shape
+    if rows != cols and quarter_turns % 2:
+        raise InputError(f"cannot rotate a {rows}x{cols} panel by a quarter turn: it is not square")
+    return np.rot90(frame, -quarter_turns).copy()
+
+
+def invert(frame: np.ndarray, planes: int = AMBER) -> np.ndarray:
+    """Flip the colour planes in ``planes`` (RED, GREEN, or AMBER for both)."""
+    if planes not in (RED, GREEN, AMBER):
+        raise InputError("invert planes must be red (1), green (2) or both (3)")
+    return (frame ^ np.uint8(planes)).astype(np.uint8)
+
+
+def clear(frame: np.ndarray) -> np.ndarray:
+    return np.zeros_like(frame)
+
+
+def _region(frame: np.ndarray, top: int, left: int, bottom: int, right: int) -> tuple[slice, slice]:
+    """Inclusive corners in any order, clipped to the frame."""
+    r0, r1 = sorted((top, bottom))
+    c0, c1 = sorted((left, right))
+    rows, cols = frame.shape
+    if r1 < 0 or c1 < 0 or r0 >= rows or c0 >= cols:
+        raise InputError("region lies outside the panel")
+    return slice(max(r0, 0), min(r1, rows - 1) + 1), slice(max(c0, 0), min(c1, cols - 1) + 1)
+
+
+def copy_region(frame: np.ndarray, top: int, left: int, bottom: int, right: int) -> np.ndarray:
+    rs, cs = _region(frame, top, left, bottom, right)
+    return frame[rs, cs].copy()
+
+
+def paste_region(frame: np.ndarray, clip: np.ndarray, top: int, left: int, *,
+                 transparent: bool = False) -> np.ndarray:
+    """Paste ``clip`` with its top-left corner at (top, left), clipped at the edges. With
+    ``transparent``, off LEDs of the clip leave the frame as it was."""
+    out = frame.copy()
+    rows, cols = frame.shape
+    h, w = clip.shape
+    r0, c0 = max(top, 0), max(left, 0)
+    r1, c1 = min(top + h, rows), min(left + w, cols)
+    if r0 >= r1 or c0 >= c1:
+        return out
+    piece = clip[r0 - top:r1 - top, c0 - left:c1 - left]
+    if transparent:
+        target = out[r0:r1, c0:c1]
+        out[r0:r1, c0:c1] = np.where(piece != OFF, piece, target)
+    else:
+        out[r0:r1, c0:c1] = piece
+    return out

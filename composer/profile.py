@@ -1,0 +1,584 @@
+"""Hardware profiles: a validated, immutable description of one panel, its wiring and its parts.
+
+A profile is a TOML file (``format = "rowcast-profile/1"``). Every number carries its unit in its
+key (``_v`` volts, ``_ma`` milliamps, ``_ohm`` ohms, ``_w`` watts, ``_c`` degrees Celsius, ``_us``
+microseconds, ``_hz`` hertz, ``_pct`` percent, ``_c_per_w`` kelvin per watt). The schema below is
+the one owner of what keys exist, their units, their defaults and their limits; the README's
+profile section and ``rowcast profile show`` are generated from the same table.
+
+Bundled profiles live in ``patterns/profiles/`` and are addressed by their file stem.
+"""
+from __future__ import annotations
+
+import math
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Callable, Mapping
+
+from .errors import InputError, did_you_mean
+from .textfile import find_key_line, read_text_file
+
+__all__ = [
+    "Profile", "Panel", "Register", "Chain", "Supply", "Led", "Resistor", "Resistors", "RowDriver",
+    "ColumnRegister", "Scan", "Safety", "SCHEMA", "COLOURS", "load_profile", "parse_profile",
+    "bundled_profiles", "resolve_profile_ref", "PROFILE_FORMAT", "PROFILES_DIR", "profile_to_dict",
+]
+
+PROFILE_FORMAT = "rowcast-profile/1"
+PROFILES_DIR = Path(__file__).resolve().parent.parent / "patterns" / "profiles"
+COLOURS = ("red", "green")
+NOT_CONNECTED = -1
+
+
+# ----------------------------------------------------------------------------------------------
+# Schema: one row per key.  kind is "str", "int", "float", "choice", "lines", "points".
+# ----------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class Key:
+    name: str
+    kind: str
+    unit: str = ""
+    doc: str = ""
+    default: Any = None          # None: required (unless optional)
+    optional: bool = False       # may be absent with no default
+    choices: tuple = ()
+    low: float | None = None     # inclusive unless low_open
+    high: float | None = None
+    low_open: bool = False
+
+
+def _k(name, kind, unit="", doc="", **kw) -> Key:
+    return Key(name, kind, unit, doc, **kw)
+
+
+_POS = dict(low=0.0, low_open=True)
+_NONNEG = dict(low=0.0)
+
+SCHEMA: dict[str, tuple[Key, ...]] = {
+    "": (
+        _k("format", "choice", doc="file format tag", choices=(PROFILE_FORMAT,)),
+        _k("name", "str", doc="short name of the panel"),
+        _k("description", "str", doc="free text", default=""),
+    ),
+    "panel": (
+        _k("rows", "int", doc="scanned rows (the common side)", low=1, high=256),
+        _k("cols", "int", doc="columns per colour", low=1, high=256),
+        _k("common", "choice", doc="which LED terminal the rows join: anode (rows sourced high, "
+           "columns sunk) or cathode (rows sunk, columns sourced)", choices=("anode", "cathode")),
+    ),
+    "chain": (
+        _k("bit_order", "choice", doc="serial bit order of each byte", choices=("msb-first", "lsb-first")),
+        _k("first_byte_lands_in", "choice", doc="where the first byte shifted ends up after a whole "
+           "chain is shifted: far-end (last register in the chain, a plain daisy chain) or near-end",
+           default="far-end", choices=("far-end", "near-end")),
+    ),
+    "chain.register": (
+        _k("name", "str", doc="label used in reports", default=""),
+        _k("drives", "choice", doc="what the eight outputs drive", choices=("rows", "red", "green")),
+        _k("lines", "lines", doc="output Q0..Q7 -> row or column index; -1 = not connected"),
+        _k("active", "choice", doc="output level that turns the line on", choices=("high", "low")),
+    ),
+    "supply": (
+        _k("voltage_v", "float", "V", "nominal supply voltage", **_POS),
+        _k("tolerance_pct", "float", "%", "supply tolerance (stress corner uses the top)", default=5.0,
+           low=0.0, high=50.0),
+        _k("budget_ma", "float", "mA", "what the supply may deliver (USB 2.0 port: 500 mA)", **_POS),
+    ),
+    "led": (
+        _k("vf_min_v", "float", "V", "lowest forward voltage at the test current", **_POS),
+        _k("vf_typ_v", "float", "V", "typical forward voltage at the test current", **_POS),
+        _k("vf_max_v", "float", "V", "highest forward voltage at the test current", **_POS),
+        _k("test_current_ma", "float", "mA", "datasheet test current for the forward voltages", **_POS),
+        _k("max_continuous_ma", "float", "mA", "absolute maximum continuous (average) current", **_POS),
+        _k("max_peak_ma", "float", "mA", "absolute maximum pulsed peak current", **_POS),
+        _k("peak_duty", "float", "", "duty at which the peak rating is given (0-1]", low=0.0,
+           low_open=True, high=1.0),
+        _k("peak_pulse_us", "float", "us", "pulse width at which the peak rating is given", **_POS),
+        _k("iv_points", "points", "mA,V", "typical I-V curve points [[mA, V], ...] read off the "
+           "datasheet; used to fit the diode model", optional=True),
+    ),
+    "resistor": (
+        _k("placement", "choice", doc="column: one resistor per column line; row: one resistor per "
+           "row shared by that row's LEDs", choices=("column", "row")),
+    ),
+    "resistor.part": (
+        _k("ohms", "float", "ohm", "resistance", **_POS),
+        _k("tolerance_pct", "float", "%", "resistance tolerance", default=5.0, low=0.0, high=50.0),
+        _k("power_w", "float", "W", "power rating", **_POS),
+    ),
+    "row_driver": (
+        _k("kind", "choice", doc="source (high side, common anode) or sink (low side, common cathode)",
+           choices=("source", "sink")),
+        _k("channels", "int", doc="channels per driver package", low=1, high=64),
+        _k("drop_model", "choice", doc="log-linear: V = a + b*ln(I/1mA) + c*I; linear: V = v0 + r*I; "
+           "table: piecewise-linear [[mA, V], ...]", choices=("log-linear", "linear", "table")),
+        _k("drop_a_v", "float", "V", "log-linear: drop at 1 mA", optional=True, **_NONNEG),
+        _k("drop_b_v", "float", "V", "log-linear: volts per e-fold of current", optional=True, **_NONNEG),
+        _k("drop_c_ohm", "float", "ohm", "log-linear: series resistance", optional=True, **_NONNEG),
+        _k("drop_v0_v", "float", "V", "linear: fixed drop", optional=True, **_NONNEG),
+        _k("drop_r_ohm", "float", "ohm", "linear: on-resistance", optional=True, **_NONNEG),
+        _k("drop_table", "points", "mA,V", "table: [[mA, V], ...] rising in mA", optional=True),
+        _k("channel_abs_max_ma", "float", "mA", "per-channel absolute maximum current", **_POS),
+        _k("theta_ja_c_per_w", "float", "C/W", "package thermal resistance junction to ambient", **_POS),
+        _k("tj_max_c", "float", "C", "maximum junction temperature"),
+        _k("ambient_c", "float", "C", "ambient temperature around the board", default=25.0),
+    ),
+    "column_register": (
+        _k("pin_abs_max_ma", "float", "mA", "per-output absolute maximum current", **_POS),
+        _k("package_abs_max_ma", "float", "mA", "per-package supply or ground pin maximum", **_POS),
+        _k("r_on_ohm", "float", "ohm", "output on-resistance (sink or source)", **_NONNEG),
+    ),
+    "scan": (
+        _k("row_period_us", "float", "us", "time slot of one row (give this or refresh_hz)",
+           optional=True, **_POS),
+        _k("refresh_hz", "float", "Hz", "target full-frame refresh (give this or row_period_us)",
+           optional=True, **_POS),
+        _k("blanking_us", "float", "us", "outputs off at the start of each row slot", default=0.0,
+           **_NONNEG),
+        _k("shift_clock_hz", "float", "Hz", "serial clock into the chain", **_POS),
+    ),
+    "safety": (
+        _k("flash_area_fraction", "float", "", "share of the central 10 degree field the panel may "
+           "cover (1.0 = conservatively all of it)", default=1.0, low=0.0, high=1.0),
+    ),
+}
+
+_SECTIONS_TOP = ("panel", "chain", "supply", "led", "resistor", "row_driver", "column_register", "scan",
+                 "safety")
+_OPTIONAL_SECTIONS = ("safety",)
+
+
+# ----------------------------------------------------------------------------------------------
+# The validated profile
+# ----------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class Panel:
+    rows: int
+    cols: int
+    common: str
+
+
+@dataclass(frozen=True)
+class Register:
+    index: int              # position in the chain, 0 = nearest the microcontroller
+    name: str
+    drives: str             # "rows" | "red" | "green"
+    lines: tuple[int, ...]  # lines[q] = row/column driven by output Qq, -1 = not connected
+    active: str             # "high" | "low"
+
+
+@dataclass(frozen=True)
+class Chain:
+    bit_order: str
+    first_byte_lands_in: str
+    registers: tuple[Register, ...]
+
+
+@dataclass(frozen=True)
+class Supply:
+    voltage_v: float
+    tolerance_pct: float
+    budget_ma: float
+
+
+@dataclass(frozen=True)
+class Led:
+    vf_min_v: float
+    vf_typ_v: float
+    vf_max_v: float
+    test_current_ma: float
+    max_continuous_ma: float
+    max_peak_ma: float
+    peak_duty: float
+    peak_pulse_us: float
+    iv_points: tuple[tuple[float, float], ...] | None
+
+
+@dataclass(frozen=True)
+class Resistor:
+    ohms: float
+    tolerance_pct: float
+    power_w: float
+
+
+@dataclass(frozen=True)
+class Resistors:
+    placement: str                       # "column" | "row"
+    parts: Mapping[str, Resistor]        # "red"/"green" for column placement, "row" for row placement
+
+
+@dataclass(frozen=True)
+class RowDriver:
+    kind: str
+    channels: int
+    drop_model: str
+    drop_a_v: float | None
+    drop_b_v: float | None
+    drop_c_ohm: float | None
+    drop_v0_v: float | None
+    drop_r_ohm: float | None
+    drop_table: tuple[tuple[float, float], ...] | None
+    channel_abs_max_ma: float
+    theta_ja_c_per_w: float
+    tj_max_c: float
+    ambient_c: float
+
+
+@dataclass(frozen=True)
+class ColumnRegister:
+    pin_abs_max_ma: float
+    package_abs_max_ma: float
+    r_on_ohm: float
+
+
+@dataclass(frozen=True)
+class Scan:
+    row_period_us: float
+    blanking_us: float
+    shift_clock_hz: float
+    refresh_hz_given: float | None
+
+
+@dataclass(frozen=True)
+class Safety:
+    flash_area_fraction: float
+
+
+@dataclass(frozen=True)
+class Profile:
+    name: str
+    description: str
+    source: str                 # path the profile was read from
+    panel: Panel
+    chain: Chain
+    supply: Supply
+    leds: Mapping[str, Led]
+    resistor: Resistors
+    row_driver: RowDriver
+    column_register: ColumnRegister
+    scan: Scan
+    safety: Safety
+    registers_by_role: Mapping[str, tuple[Register, ...]] = field(default=None, repr=False)
+
+    @property
+    def rows(self) -> int:
+        return self.panel.rows
+
+    @property
+    def cols(self) -> int:
+        return self.panel.cols
+
+    @property
+    def n_registers(self) -> int:
+        return len(self.chain.registers)
+
+
+# ----------------------------------------------------------------------------------------------
+# Loading and validation
+# ----------------------------------------------------------------------------------------------
+class _Ctx:
+    """Where we are, for error messages."""
+
+    def __init__(self, path: str, text: str) -> None:
+        self.path = path
+        self.text = text
+
+    def fail(self, where: str, message: str) -> InputError:
+        leaf = where.rsplit(".", 1)[-1].split("[")[0]
+        return InputError(message, path=self.path, where=where, line=find_key_line(self.text, leaf))
+
+
+def _is_number(value: Any) -> bool:
+    return isinstance(value, (int, float)) and not isinstance(value, bool)
+
+
+def _check_value(ctx: _Ctx, where: str, key: Key, value: Any) -> Any:
+    kind = key.kind
+    if kind in ("str", "choice"):
+        if not isinstance(value, str):
+            raise ctx.fail(where, f"must be a string, got {type(value).__name__}")
+        if kind == "choice" and value not in key.choices:
+            options = ", ".join(f'"{c}"' for c in key.choices)
+            raise ctx.fail(where, f'"{value}" is not one of {options}{did_you_mean(value, key.choices)}')
+        return value
+    if kind == "int":
+        if not isinstance(value, int) or isinstance(value, bool):
+            raise ctx.fail(where, f"must be a whole number, got {value!r}")
+        _check_range(ctx, where, key, value)
+        return value
+    if kind == "float":
+        if not _is_number(value):
+            raise ctx.fail(where, f"must be a number{_unit(key)}, got {value!r}")
+        value = float(value)
+        if not math.isfinite(value):
+            raise ctx.fail(where, f"must be a finite number, got {value!r}")
+        _check_range(ctx, where, key, value)
+        return value
+    if kind == "lines":
+        if (not isinstance(value, list) or len(value) != 8
+                or not all(isinstance(v, int) and not isinstance(v, bool) for v in value)):
+            raise ctx.fail(where, "must be a list of 8 whole numbers (output Q0..Q7 -> line, -1 = "
+                           "not connected)")
+        return tuple(value)
+    if kind == "points":
+        ok = isinstance(value, list) and len(value) >= 2 and all(
+            isinstance(p, list) and len(p) == 2 and all(_is_number(x) and math.isfinite(x) for x in p)
+            for p in value)
+        if not ok:
+            raise ctx.fail(where, "must be a list of at least two [mA, V] pairs of numbers")
+        pts = tuple((float(a), float(b)) for a, b in value)
+        if any(a <= 0 for a, _ in pts) or any(b2 <= 0 for _, b2 in pts):
+            raise ctx.fail(where, "currents and voltages must be above zero")
+        if any(pts[i + 1][0] <= pts[i][0] for i in range(len(pts) - 1)):
+            raise ctx.fail(where, "points must rise in current")
+        if any(pts[i + 1][1] < pts[i][1] for i in range(len(pts) - 1)):
+            raise ctx.fail(where, "voltage must not fall as current rises")
+        return pts
+    raise AssertionError(kind)
+
+
+def _unit(key: Key) -> str:
+    return f" in {key.unit}" if key.unit else ""
+
+
+def _check_range(ctx: _Ctx, where: str, key: Key, value: float) -> None:
+    if key.low is not None:
+        if key.low_open and not value > key.low:
+            raise ctx.fail(where, f"must be above {key.low:g}{_unit(key)}, got {value:g}")
+        if not key.low_open and value < key.low:
+            raise ctx.fail(where, f"must be at least {key.low:g}{_unit(key)}, got {value:g}")
+    if key.high is not None and value > key.high:
+        raise ctx.fail(where, f"must be at most {key.high:g}{_unit(key)}, got {value:g}")
+
+
+def _section(ctx: _Ctx, table: Any, prefix: str, schema_name: str, *,
+             extra: tuple[str, ...] = ()) -> dict[str, Any]:
+    """Validate one table against its schema; unknown keys get a did-you-mean."""
+    if not isinstance(table, dict):
+        raise ctx.fail(prefix, "must be a table")
+    keys = SCHEMA[schema_name]
+    known = [k.name for k in keys] + list(extra)
+    for name in table:
+        if name not in known:
+            where = f"{prefix}.{name}" if prefix else name
+            raise ctx.fail(where, f"unknown key{did_you_mean(name, known)}")
+    out: dict[str, Any] = {}
+    for key in keys:
+        where = f"{prefix}.{key.name}" if prefix else key.name
+        if key.name in table:
+            out[key.name] = _check_value(ctx, where, key, table[key.name])
+        elif key.default is not None:
+            out[key.name] = key.default
+        elif key.optional:
+            out[key.name] = None
+        else:
+            raise ctx.fail(where, f"missing key{_unit(key) and ' (' + key.unit + ')'}")
+    return out
+
+
+def _need(ctx: _Ctx, table: dict, name: str, prefix: str) -> Any:
+    if name not in table:
+        raise ctx.fail(f"{prefix}.{name}" if prefix else name, "missing table")
+    return table[name]
+
+
+def parse_profile(text: str, path: str = "<profile>") -> Profile:
+    """Validate profile TOML text; every problem raises one :class:`InputError`."""
+    ctx = _Ctx(path, text)
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"not valid TOML: {exc}", path=path) from None
+    top = _section(ctx, data, "", "", extra=_SECTIONS_TOP)
+    for name in _SECTIONS_TOP:
+        if name not in data and name not in _OPTIONAL_SECTIONS:
+            raise ctx.fail(name, "missing table")
+
+    panel = Panel(**_section(ctx, data["panel"], "panel", "panel"))
+
+    chain_raw = data["chain"]
+    chain_top = _section(ctx, chain_raw, "chain", "chain", extra=("register",))
+    regs_raw = _need(ctx, chain_raw, "register", "chain")
+    if not isinstance(regs_raw, list) or not regs_raw:
+        raise ctx.fail("chain.register", "must be an array of [[chain.register]] tables")
+    registers = []
+    for i, reg in enumerate(regs_raw):
+        values = _section(ctx, reg, f"chain.register[{i}]", "chain.register")
+        if not values["name"]:
+            values["name"] = f"U{i + 1}"
+        registers.append(Register(index=i, **values))
+    by_role = _check_lines(ctx, panel, registers)
+
+    supply = Supply(**_section(ctx, data["supply"], "supply", "supply"))
+
+    led_raw = data["led"]
+    if not isinstance(led_raw, dict):
+        raise ctx.fail("led", "must be a table with [led.red] and [led.green]")
+    for name in led_raw:
+        if name not in COLOURS:
+            raise ctx.fail(f"led.{name}", f"unknown colour{did_you_mean(name, COLOURS)}")
+    leds = {}
+    for colour in COLOURS:
+        values = _section(ctx, _need(ctx, led_raw, colour, "led"), f"led.{colour}", "led")
+        where = f"led.{colour}"
+        if not values["vf_min_v"] <= values["vf_typ_v"] <= values["vf_max_v"]:
+            raise ctx.fail(f"{where}.vf_typ_v", "forward voltages must satisfy vf_min_v <= vf_typ_v <= "
+                           "vf_max_v")
+        if values["vf_min_v"] >= supply.voltage_v:
+            raise ctx.fail(f"{where}.vf_min_v", f"forward voltage {values['vf_min_v']:g} V is at or above "
+                           f"the supply voltage {supply.voltage_v:g} V: no LED can light")
+        if values["max_peak_ma"] < values["max_continuous_ma"]:
+            raise ctx.fail(f"{where}.max_peak_ma", "peak rating is below the continuous rating")
+        leds[colour] = Led(**values)
+
+    res_raw = data["resistor"]
+    res_top = _section(ctx, res_raw, "resistor", "resistor", extra=("red", "green", "row"))
+    wanted = COLOURS if res_top["placement"] == "column" else ("row",)
+    unwanted = [n for n in ("red", "green", "row") if n not in wanted and n in res_raw]
+    if unwanted:
+        raise ctx.fail(f"resistor.{unwanted[0]}", f'does not apply with placement = "{res_top["placement"]}"'
+                       f" (expected {', '.join('[resistor.' + w + ']' for w in wanted)})")
+    parts = {n: Resistor(**_section(ctx, _need(ctx, res_raw, n, "resistor"), f"resistor.{n}",
+                                    "resistor.part")) for n in wanted}
+    resistor = Resistors(placement=res_top["placement"], parts=parts)
+
+    rd = _section(ctx, data["row_driver"], "row_driver", "row_driver")
+    _check_drop_model(ctx, rd)
+    expected_kind = "source" if panel.common == "anode" else "sink"
+    if rd["kind"] != expected_kind:
+        raise ctx.fail("row_driver.kind", f'a common-{panel.common} panel needs a {expected_kind} row '
+                       f'driver, not "{rd["kind"]}"')
+    row_driver = RowDriver(**rd)
+
+    column_register = ColumnRegister(**_section(ctx, data["column_register"], "column_register",
+                                                "column_register"))
+
+    sc = _section(ctx, data["scan"], "scan", "scan")
+    if (sc["row_period_us"] is None) == (sc["refresh_hz"] is None):
+        raise ctx.fail("scan.row_period_us", "give exactly one of row_period_us and refresh_hz")
+    row_period = sc["row_period_us"] or 1e6 / (sc["refresh_hz"] * panel.rows)
+    if sc["blanking_us"] >= row_period:
+        raise ctx.fail("scan.blanking_us", f"blanking {sc['blanking_us']:g} us fills the whole row slot "
+                       f"of {row_period:g} us")
+    scan = Scan(row_period_us=row_period, blanking_us=sc["blanking_us"], shift_clock_hz=sc["shift_clock_hz"],
+                refresh_hz_given=sc["refresh_hz"])
+
+    safety = Safety(**_section(ctx, data.get("safety", {}), "safety", "safety"))
+
+    return Profile(
+        name=top["name"], description=top["description"], source=path, panel=panel,
+        chain=Chain(bit_order=chain_top["bit_order"], first_byte_lands_in=chain_top["first_byte_lands_in"],
+                    registers=tuple(registers)),
+        supply=supply, leds=leds, resistor=resistor, row_driver=row_driver,
+        column_register=column_register, scan=scan, safety=safety, registers_by_role=by_role)
+
+
+def _check_lines(ctx: _Ctx, panel: Panel, registers: list[Register]) -> dict[str, tuple[Register, ...]]:
+    """Every row and every column of each colour is driven by exactly one output."""
+    by_role: dict[str, tuple[Register, ...]] = {}
+    for role, count in (("rows", panel.rows), ("red", panel.cols), ("green", panel.cols)):
+        regs = tuple(r for r in registers if r.drives == role)
+        if not regs:
+            raise ctx.fail("chain.register", f'no register drives "{role}"')
+        seen: dict[int, str] = {}
+        for reg in regs:
+            where = f"chain.register[{reg.index}].lines"
+            for q, line in enumerate(reg.lines):
+                if line == NOT_CONNECTED:
+                    continue
+                if not 0 <= line < count:
+                    raise ctx.fail(where, f"Q{q} -> {line} is outside 0..{count - 1} ({role})")
+                if line in seen:
+                    raise ctx.fail(where, f"Q{q} -> {line} is already driven by {seen[line]}: the {role} "
+                                   "map is not a permutation")
+                seen[line] = f"register {reg.index} Q{q}"
+        missing = sorted(set(range(count)) - set(seen))
+        if missing:
+            raise ctx.fail(f"chain.register[{regs[0].index}].lines", f"{role} line(s) {missing[:8]} are "
+                           "driven by no output: the map is not a permutation")
+        by_role[role] = regs
+    return by_role
+
+
+def _check_drop_model(ctx: _Ctx, rd: dict) -> None:
+    needed = {"log-linear": ("drop_a_v", "drop_b_v", "drop_c_ohm"), "linear": ("drop_v0_v", "drop_r_ohm"),
+              "table": ("drop_table",)}
+    model = rd["drop_model"]
+    for name in needed[model]:
+        if rd[name] is None:
+            raise ctx.fail(f"row_driver.{name}", f'missing key (needed by drop_model = "{model}")')
+    for other, names in needed.items():
+        if other != model:
+            for name in names:
+                if rd[name] is not None:
+                    raise ctx.fail(f"row_driver.{name}", f'does not apply with drop_model = "{model}"')
+
+
+def load_profile(ref: str | Path, *, relative_to: Path | None = None) -> Profile:
+    """Load a bundled profile by short name, or a profile file by path."""
+    path = resolve_profile_ref(ref, relative_to=relative_to)
+    return parse_profile(read_text_file(path), str(path))
+
+
+def resolve_profile_ref(ref: str | Path, *, relative_to: Path | None = None) -> Path:
+    text = str(ref)
+    if not text:
+        raise InputError("empty profile name")
+    looks_like_path = "/" in text or "\\" in text or text.endswith(".toml")
+    if not looks_like_path:
+        names = bundled_profiles()
+        if text in names:
+            return names[text]
+        raise InputError(f'no bundled profile "{text}"{did_you_mean(text, names)}; bundled: '
+                         f'{", ".join(sorted(names))}')
+    path = Path(text)
+    if not path.is_absolute() and relative_to is not None:
+        path = relative_to / path
+    if not path.is_file():
+        raise InputError("profile file not found", path=path)
+    return path
+
+
+def bundled_profiles() -> dict[str, Path]:
+    return {p.name[: -len(".toml")]: p for p in sorted(PROFILES_DIR.glob("*.toml"))}
+
+
+def profile_to_dict(profile: Profile) -> dict[str, Any]:
+    """The resolved profile as plain data, keys as in the file (units in the key names)."""
+    def plain(obj: Any) -> Any:
+        if isinstance(obj, tuple):
+            return [plain(x) for x in obj]
+        return obj
+
+    def fields_of(obj: Any, skip: tuple[str, ...] = ()) -> dict[str, Any]:
+        return {k: plain(v) for k, v in vars(obj).items() if k not in skip}
+
+    sc = profile.scan
+    return {
+        "format": PROFILE_FORMAT,
+        "name": profile.name,
+        "description": profile.description,
+        "source": profile.source,
+        "panel": fields_of(profile.panel),
+        "chain": {
+            "bit_order": profile.chain.bit_order,
+            "first_byte_lands_in": profile.chain.first_byte_lands_in,
+            "register": [fields_of(r, ("index",)) for r in profile.chain.registers],
+        },
+        "supply": fields_of(profile.supply),
+        "led": {c: fields_of(led) for c, led in profile.leds.items()},
+        "resistor": {"placement": profile.resistor.placement,
+                     **{n: fields_of(r) for n, r in profile.resistor.parts.items()}},
+        "row_driver": fields_of(profile.row_driver),
+        "column_register": fields_of(profile.column_register),
+        "scan": {"row_period_us": sc.row_period_us, "refresh_hz": 1e6 / (sc.row_period_us * profile.rows),
+                 "blanking_us": sc.blanking_us, "shift_clock_hz": sc.shift_clock_hz},
+        "safety": fields_of(profile.safety),
+    }
+
+
+def units_of(section: str) -> Callable[[str], str]:
+    """Unit lookup for ``profile show``: section schema name -> key -> unit."""
+    table = {k.name: k.unit for k in SCHEMA.get(section, ())}
+    return lambda key: table.get(key, "")
