@@ -1,0 +1,45 @@
+"""Shared test helpers.
+
+``need_tool`` is how a test asks for an outside tool (ngspice, avr-gcc, simavr, tmux, gcc...): in CI
+(``CI`` set) a missing tool fails the test loudly; elsewhere the test is skipped with the reason.
+"""
+from __future__ import annotations
+
+import os
+import shutil
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parent.parent
+PROFILES = ROOT / "patterns" / "profiles"
+PATTERNS = ROOT / "patterns"
+
+
+def in_ci() -> bool:
+    return bool(os.environ.get("CI"))
+
+
+def need_tool(name: str) -> str:
+    path = shutil.which(name)
+    if path:
+        return path
+    message = f"{name} is not installed (the README's test command installs it)"
+    if in_ci():
+        pytest.fail(f"CI: {message}")
+    pytest.skip(message)
+
+
+def need(condition: bool, message: str) -> None:
+    """Same rule for any other precondition (a library, a device node)."""
+    if condition:
+        return
+    if in_ci():
+        pytest.fail(f"CI: {message}")
+    pytest.skip(message)
+
+
+@pytest.fixture
+def bench_profile():
+    from composer.profile import load_profile
+    return load_profile("bench-8x8")
