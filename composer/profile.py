@@ -582,3 +582,29 @@ def units_of(section: str) -> Callable[[str], str]:
     """Unit lookup for ``profile show``: section schema name -> key -> unit."""
     table = {k.name: k.unit for k in SCHEMA.get(section, ())}
     return lambda key: table.get(key, "")
+
+
+def schema_markdown() -> str:
+    """The README's profile key table, made from :data:`SCHEMA` (``python -m composer.profile``)."""
+    titles = {"": "(top level)", "chain.register": "[[chain.register]] (one per register, nearest the "
+              "microcontroller first)", "led": "[led.red] and [led.green]", "resistor.part":
+              "[resistor.red] / [resistor.green] (placement column) or [resistor.row] (placement row)"}
+    out = ["| table | key | unit | default | meaning |", "|---|---|---|---|---|"]
+    for section, keys in SCHEMA.items():
+        title = titles.get(section, f"[{section}]")
+        for key in keys:
+            if key.default is not None:
+                default = f"`{key.default}`" if not isinstance(key.default, str) else f'`"{key.default}"`'
+                if key.default == "":
+                    default = '`""`'
+            else:
+                default = "optional" if key.optional else "required"
+            meaning = key.doc
+            if key.choices:
+                meaning += " (" + ", ".join(f"`{c}`" for c in key.choices) + ")"
+            out.append(f"| {title} | `{key.name}` | {key.unit} | {default} | {meaning} |")
+    return "\n".join(out)
+
+
+if __name__ == "__main__":
+    print(schema_markdown())
