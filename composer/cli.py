@@ -45,7 +45,9 @@ class _Parser(argparse.ArgumentParser):
         raise SystemExit(EXIT_INPUT)
 
 
-def build_parser() -> argparse.ArgumentParser:
+def build_parser(only: str | None = None) -> argparse.ArgumentParser:
+    """The full parser; with ``only``, just that subcommand's options are loaded (faster start-up,
+    and one broken optional module cannot take the other commands down)."""
     parser = _Parser(prog="rowcast", description="Compose, check, stream and export animations for "
                      "multiplexed two-colour LED dot-matrix panels.", epilog=EPILOG)
     parser.add_argument("--version", action="version", version=f"rowcast {__version__}")
@@ -53,6 +55,8 @@ def build_parser() -> argparse.ArgumentParser:
     for name, (module_name, help_text) in COMMANDS.items():
         sub = subs.add_parser(name, help=help_text, description=help_text, epilog=EPILOG)
         sub.set_defaults(_module=module_name)
+        if only is not None and name != only:
+            continue
         try:
             module = importlib.import_module(module_name)
         except ModuleNotFoundError as exc:
@@ -69,7 +73,7 @@ def main(argv: list[str] | None = None) -> int:
     try:
         if not argv:
             return _default()
-        parser = build_parser()
+        parser = build_parser(argv[0] if argv[0] in COMMANDS else None)
         args = parser.parse_args(argv)
         if args.command is None:
             parser.print_help()
