@@ -1,0 +1,79 @@
+"""``rowcast export PATTERN --c OUT.h | --gif OUT.gif | --png OUT.png | --json OUT.json``.
+
+Several outputs may be asked for at once. Everything is checked (arguments, output folders, the
+pattern, the profile) before the first file is written, and each file is written atomically.
+Exit status 1 (files still written) when the electrical check finds a frame over a limit.
+"""
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+import numpy as np
+
+from ..atomic import atomic_write_bytes
+from ..errors import EXIT_OK, EXIT_VIOLATION, InputError
+from ..exports.c_tables import LAYOUTS, c_header, check_prefix
+from ..exports.check import check_report
+from ..exports.json_export import export_json
+from ..generate.cli_args import check_out
+from ..exports.preview import DEFAULT_SCALE, check_scale, gif_bytes, png_sheet_bytes
+from ..pattern_file import open_pattern
+
+__all__ = ["configure", "run"]
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.rowcast.toml)")
+    parser.add_argument("--profile", metavar="NAME|PATH", help="profile to use instead of the pattern's own")
+    parser.add_argument("--c", metavar="OUT.h", dest="c_out", help="write C tables (a header file)")
+    parser.add_argument("--layout", choices=LAYOUTS, default="shift",
+                        help="shift: bytes in shift order, polarity applied (default); bitmap: row masks per "
+                             "colour before wiring")
+    parser.add_argument("--prefix", metavar="NAME", help="C identifier for the table names (default: from "
+                        "the pattern name)")
+    parser.add_argument("--progmem", action="store_true", help="place the tables in program memory on AVR")
+    parser.add_argument("--gif", metavar="OUT.gif", dest="gif_out", help="write an animated GIF preview")
+    parser.add_argument("--png", metavar="OUT.png", dest="png_out", help="write a PNG sprite sheet")
+    parser.add_argument("--scale", type=int, default=DEFAULT_SCALE, metavar="N",
+                        help=f"pixels per LED in previews (default {DEFAULT_SCALE})")
+    parser.add_argument("--json", metavar="OUT.json", dest="json_out", help="write the model and the check "
+                        "report as JSON")
+
+
+def run(args: argparse.Namespace) -> int:
+    outputs = {"--c": args.c_out, "--gif": args.gif_out, "--png": args.png_out, "--json": args.json_out}
+    wanted = {opt: check_out(p, opt) for opt, p in outputs.items() if p}
+    if not wanted:
+        raise InputError("nothing to export: give --c, --gif, --png and/or --json")
+    if args.prefix is not None:
+        check_prefix(args.prefix)
+    if args.gif_out or args.png_out:
+        check_scale(args.scale)
+    anim, profile = open_pattern(args.pattern, args.profile)
+
+    # Render everything first, then write: a failure while rendering leaves no file behind.
+    report = check_report(anim, profile) if (args.c_out or args.json_out) else None
+    blobs: dict[str, bytes] = {}
+    if args.c_out:
+        blobs["--c"] = c_header(anim, profile, report, layout=args.layout, prefix=args.prefix,
+                                progmem=args.progmem, source_name=Path(args.pattern).name).encode()
+    if args.gif_out:
+        blobs["--gif"] = gif_bytes(anim, args.scale)
+    if args.png_out:
+        blobs["--png"] = png_sheet_bytes(anim, args.scale)
+    if args.json_out:
+        blobs["--json"] = export_json(anim, profile, report).encode()
+    for opt, data in blobs.items():
+        atomic_write_bytes(wanted[opt], data)
+        print(f"wrote {wanted[opt]} ({len(data)} bytes)")
+    if report is not None:
+        ok = np.asarray(report.frame_ok, bool).reshape(-1)
+        if not ok.all():
+            bad = np.flatnonzero(~ok)
+            sys.stderr.write(f"rowcast export: {bad.size} frame(s) over a limit of profile {profile.name} "
+                             f"(first: frame {int(bad[0])}); run rowcast check {args.pattern}\n")
+            return EXIT_VIOLATION
+    return EXIT_OK
+

@@ -1,0 +1,40 @@
+"""``rowcast import IMAGE --profile P -o PATTERN [--fit|--crop] [--dither]``: an image or an animated
+GIF becomes a pattern (colour rule in composer/generate/image_import.py and the README)."""
+from __future__ import annotations
+
+import argparse
+
+from ..generate.image_import import import_image
+from ..generate.pattern_ref import profile_ref_for
+from ..model import MAX_MS, MIN_MS
+from ..pattern_file import save_pattern
+from ..profile import load_profile
+from ..generate.cli_args import check_pattern_out, ms_arg
+
+__all__ = ["configure", "run"]
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("image", metavar="IMAGE", help="any image pillow reads; a multi-frame GIF keeps its "
+                        "frames and durations")
+    parser.add_argument("--profile", required=True, metavar="NAME|PATH", help="the panel to import for")
+    parser.add_argument("-o", "--output", required=True, metavar="PATTERN", help="pattern file to write")
+    how = parser.add_mutually_exclusive_group()
+    how.add_argument("--fit", dest="fit", action="store_const", const="fit", default="fit",
+                     help="scale the whole image into the panel, centred on black (default)")
+    how.add_argument("--crop", dest="fit", action="store_const", const="crop",
+                     help="scale the image to cover the panel and cut the overflow evenly")
+    parser.add_argument("--dither", action="store_true", help="Floyd-Steinberg dithering of brightness")
+    parser.add_argument("--ms", type=ms_arg, metavar="MS", help=f"every frame lasts MS ms ({MIN_MS}..{MAX_MS}) "
+                        "instead of the image's own durations")
+    parser.add_argument("--name", help="pattern name (default: the image's file name)")
+
+
+def run(args: argparse.Namespace) -> int:
+    out = check_pattern_out(args.output)
+    profile = load_profile(args.profile)
+    anim = import_image(args.image, profile, fit=args.fit, dither=args.dither, name=args.name, ms=args.ms,
+                        profile_ref=profile_ref_for(args.profile, out))
+    save_pattern(anim, out)
+    print(f"wrote {out}: {anim.n_frames} frame(s), {anim.rows}x{anim.cols}, {anim.total_ms} ms")
+    return 0

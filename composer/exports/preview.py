@@ -1,0 +1,150 @@
+"""Previews to show others: an animated GIF and a PNG sprite sheet (pillow).
+
+Each LED is drawn as a round dot on a dark board; an LED that is off is a dim dot, so the grid stays
+visible. Images are palette images built with numpy (no loop over LEDs): palette index =
+``state * LEVELS + coverage level`` of an anti-aliased dot, so a GIF stores them without loss.
+
+GIF timing: GIF stores frame delays in hundredths of a second (GIF89a specification, Graphic
+Control Extension "Delay Time"), so each frame's milliseconds are rounded to the nearest 10 ms,
+never below 10 ms, and no frame is dropped - two identical frames in a row stay two frames.
+"""
+from __future__ import annotations
+
+import io
+import math
+
+import numpy as np
+from PIL import Image, ImageDraw, ImageFont
+
+from ..errors import InputError
+from ..model import Animation
+
+__all__ = ["COLOURS_RGB", "OFF_RGB", "BOARD_RGB", "LEVELS", "MIN_SCALE", "MAX_SCALE", "DEFAULT_SCALE",
+           "MAX_PIXELS", "check_scale", "gif_delays_ms", "frame_image", "gif_bytes", "png_sheet_bytes", "sheet_layout"]
+
+BOARD_RGB = (12, 12, 12)
+OFF_RGB = (46, 40, 36)                       # a dim dot: the LED is there but dark
+COLOURS_RGB = {1: (235, 40, 30), 2: (40, 215, 60), 3: (255, 170, 20)}   # red, green, amber
+LEVELS = 16                                  # coverage levels of the anti-aliased dot edge
+MIN_SCALE, MAX_SCALE, DEFAULT_SCALE = 2, 64, 12
+MAX_PIXELS = 200_000_000                     # pixels over all frames; beyond this, ask for a smaller --scale
+_TWIN = 4 * LEVELS                           # a second index with the board colour (see gif_bytes)
+_SUPERSAMPLE = 4
+
+
+def _palette() -> list[int]:
+    board = np.array(BOARD_RGB, float)
+    colours = [OFF_RGB, COLOURS_RGB[1], COLOURS_RGB[2], COLOURS_RGB[3]]
+    pal = []
+    for rgb in colours:
+        for level in range(LEVELS):
+            t = level / (LEVELS - 1)
+            pal.extend(int(round(v)) for v in board * (1 - t) + np.array(rgb, float) * t)
+    pal.extend(BOARD_RGB)                    # index _TWIN: same colour as level 0
+    pal.extend([0, 0, 0] * (256 - len(pal) // 3))
+    return pal
+
+
+def _dot_levels(scale: int) -> np.ndarray:
+    """(scale, scale) coverage levels 0..LEVELS-1 of one round dot, drawn by pillow at 4x and averaged."""
+    big = scale * _SUPERSAMPLE
+    img = Image.new("L", (big, big), 0)
+    margin = big * 0.12
+    ImageDraw.Draw(img).ellipse((margin, margin, big - margin - 1, big - margin - 1), fill=255)
+    cover = np.asarray(img.resize((scale, scale), Image.Resampling.BOX), float) / 255.0
+    return np.rint(cover * (LEVELS - 1)).astype(np.uint8)
+
+
+def check_scale(scale: int) -> int:
+    if isinstance(scale, bool) or not isinstance(scale, int) or not MIN_SCALE <= scale <= MAX_SCALE:
+        raise InputError(f"--scale {scale!r} is outside {MIN_SCALE}..{MAX_SCALE} pixels per LED")
+    return scale
+
+
+def _indices(frames: np.ndarray, scale: int) -> np.ndarray:
+    """(F, rows, cols) states -> (F, rows*scale, cols*scale) palette indices."""
+    n, rows, cols = frames.shape
+    if n * rows * cols * scale * scale > MAX_PIXELS:
+        raise InputError(f"{n} frames of {rows}x{cols} LEDs at --scale {scale} would be over "
+                         f"{MAX_PIXELS} pixels; use a smaller --scale")
+    dot = _dot_levels(scale)
+    big = np.repeat(np.repeat(frames.astype(np.uint8) * np.uint8(LEVELS), scale, axis=1), scale, axis=2)
+    return big + np.tile(dot, (rows, cols))[None]
+
+
+def frame_image(frame: np.ndarray, scale: int = DEFAULT_SCALE) -> Image.Image:
+    """One frame as a palette image."""
+    idx = _indices(np.asarray(frame, np.uint8)[None], check_scale(scale))[0]
+    img = Image.fromarray(idx, "P")
+    img.putpalette(_palette())
+    return img
+
+
+def gif_delays_ms(durations_ms: np.ndarray) -> list[int]:
+    """Milliseconds as GIF can store them: nearest 10 ms (halves up), at least 10 ms."""
+    ms = np.asarray(durations_ms, np.int64)
+    return [int(v) * 10 for v in np.maximum(1, (ms + 5) // 10)]
+
+
+def gif_bytes(anim: Animation, scale: int = DEFAULT_SCALE) -> bytes:
+    """An endlessly looping GIF with one GIF frame per animation frame."""
+    idx = _indices(anim.frames, check_scale(scale))
+    # pillow's GIF writer folds a frame that equals the previous one into it (adding the delays).
+    # The top-left pixel is always board colour; switching it between two palette entries of that
+    # same colour keeps every frame distinct without changing what anyone sees.
+    same = np.zeros(anim.n_frames, bool)
+    same[1:] = np.all(anim.frames[1:] == anim.frames[:-1], axis=(1, 2))
+    twin = np.cumsum(same) % 2 == 1
+    idx[twin, 0, 0] = _TWIN
+    pal = _palette()
+    images = []
+    for plane in idx:
+        img = Image.fromarray(plane, "P")
+        img.putpalette(pal)
+        images.append(img)
+    buf = io.BytesIO()
+    images[0].save(buf, "GIF", save_all=True, append_images=images[1:], duration=gif_delays_ms(anim.durations_ms),
+                   loop=0, optimize=False, disposal=1)
+    return buf.getvalue()
+
+
+def sheet_layout(n_frames: int, rows: int, cols: int, scale: int, label_w: int = 0) -> tuple[int, int, int, int]:
+    """(columns, lines, cell width, cell height) of the sprite sheet: near square, labels on top."""
+    width, height = max(cols * scale, label_w), rows * scale + _LABEL_H
+    per_line = max(1, min(n_frames, math.ceil(math.sqrt(n_frames * height / width))))
+    lines = math.ceil(n_frames / per_line)
+    return per_line, lines, width + _GAP, height + _GAP
+
+
+_LABEL_H = 14   # pillow's built-in bitmap font is 11 pixels tall
+_GAP = 6
+
+
+def png_sheet_bytes(anim: Animation, scale: int = DEFAULT_SCALE) -> bytes:
+    """All frames on one PNG, left to right then top to bottom, each labelled with its number and
+    duration."""
+    scale = check_scale(scale)
+    idx = _indices(anim.frames, scale)
+    n, rows, cols = anim.frames.shape
+    font = ImageFont.load_default_imagefont()
+    labels = [f"{i}  {int(ms)} ms" for i, ms in enumerate(anim.durations_ms)]
+    label_w = int(max(font.getlength(t) for t in labels))
+    if label_w > max(cols * scale, 48):          # long labels on small frames: frame numbers only
+        labels = [str(i) for i in range(n)]
+        label_w = int(max(font.getlength(t) for t in labels))
+    per_line, lines, cw, ch = sheet_layout(n, rows, cols, scale, label_w)
+    sheet = np.full((lines * ch + _GAP, per_line * cw + _GAP), _TWIN, np.uint8)
+    for i in range(n):
+        y, x = _GAP + (i // per_line) * ch + _LABEL_H, _GAP + (i % per_line) * cw
+        sheet[y:y + rows * scale, x:x + cols * scale] = idx[i]
+    img = Image.fromarray(sheet, "P")
+    pal = _palette()
+    pal[3 * 255:3 * 256] = [200, 200, 200]          # label ink
+    img.putpalette(pal)
+    draw = ImageDraw.Draw(img)
+    for i, label in enumerate(labels):
+        y, x = _GAP + (i // per_line) * ch, _GAP + (i % per_line) * cw
+        draw.text((x, y), label, font=font, fill=255)
+    buf = io.BytesIO()
+    img.save(buf, "PNG", optimize=False)
+    return buf.getvalue()
