@@ -1,0 +1,79 @@
+/* Board layer for ATmega328P-class boards at 16 MHz (the pin map is the one place it is written).
+ *
+ *   PB3 (MOSI), PB5 (SCK)  hardware SPI at fosc/2 to the serial input and shift clock of the chain
+ *   PB1                    latch (storage-register clock), idle low, pulsed high then low
+ *   PB2 (SS)               output-enable of every register, active low; driven high from reset and
+ *                          held high by an external pull-up while the pin floats (common practice,
+ *                          about 10 kilohm), so the panel is dark through reset and programming.
+ *                          As an output it also keeps the SPI in master mode.
+ *   PD0/PD1                UART0 to the USB serial bridge
+ *
+ * Timer 1 in CTC mode gives one compare-A interrupt per row (the scan tick) and a compare-B
+ * interrupt at the end of the blanking time that re-enables the outputs. GPIOR0 bit 0 says whether
+ * outputs are switched on; the compare-B handler tests it with one instruction. */
+#ifndef RC_BOARD_IMPL_H
+#define RC_BOARD_IMPL_H
+#include <stdint.h>
+#include <avr/interrupt.h>
+#include <avr/io.h>
+#include <avr/wdt.h>
+
+#define RC_PIN_LATCH PB1
+#define RC_PIN_OE PB2
+#define RC_OUTPUTS_BIT 0            /* in GPIOR0 */
+
+#define RC_RX_SIZE 32u              /* powers of two: the index wraps with a mask; small to keep RAM under 512 bytes */
+#define RC_TX_SIZE 16u              /* the longest reply (IDENTITY) is 16 wire bytes */
+
+extern volatile uint8_t rc_rx_buf[RC_RX_SIZE], rc_tx_buf[RC_TX_SIZE];
+extern volatile uint8_t rc_rx_head, rc_rx_tail, rc_tx_head, rc_tx_tail;
+
+void board_init(void);
+void board_tick_start(uint16_t row_period_us, uint16_t blanking_us);
+void board_tick_stop(void);
+void board_serial_put(uint8_t b);
+
+static inline int16_t board_serial_get(void)
+{
+    uint8_t t = rc_rx_tail;
+    if (t == rc_rx_head)
+        return -1;
+    uint8_t b = rc_rx_buf[t];
+    rc_rx_tail = (uint8_t)((t + 1) & (RC_RX_SIZE - 1));
+    return b;
+}
+
+static inline void board_spi_put(uint8_t b)
+{
+    SPDR = b;
+    while (!(SPSR & _BV(SPIF)))
+        ;
+}
+
+static inline void board_latch(void)
+{
+    PORTB |= _BV(RC_PIN_LATCH);     /* a real part latches on this rising edge */
+    PORTB &= (uint8_t)~_BV(RC_PIN_LATCH);
+}
+
+static inline void board_blank(void) { PORTB |= _BV(RC_PIN_OE); }
+
+/* Let the compare-B interrupt (end of blanking) in even while the rest of the tick runs. */
+static inline void board_unblank_later(void) { sei(); }
+
+static inline void board_outputs(uint8_t on)
+{
+    if (on) {
+        GPIOR0 |= _BV(RC_OUTPUTS_BIT);
+    } else {
+        GPIOR0 &= (uint8_t)~_BV(RC_OUTPUTS_BIT);
+        PORTB |= _BV(RC_PIN_OE);
+    }
+}
+
+static inline void board_watchdog_kick(void) { wdt_reset(); }
+static inline void board_wait_for_tick(void) {}
+static inline void board_critical_enter(void) { cli(); }
+static inline void board_critical_exit(void) { sei(); }
+
+#endif

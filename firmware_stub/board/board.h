@@ -1,0 +1,27 @@
+/* The tiny board interface the portable core is written against.
+ *
+ * A board layer provides "board_impl.h" (found through the include path) defining these, usually
+ * as static inline functions so the row interrupt stays short:
+ *
+ *   void board_init(void);               pins safe: output-enable inactive, latch idle low
+ *   int16_t board_serial_get(void);      next received byte, or -1 when none is waiting
+ *   void board_serial_put(uint8_t b);    queue one byte for sending (may wait for room)
+ *   void board_spi_put(uint8_t b);       shift one byte into the register chain, return when done
+ *   void board_latch(void);              pulse the storage-register clock (high, then low)
+ *   void board_blank(void);              output-enable inactive now (start of a row)
+ *   void board_unblank_later(void);      output-enable may go active once the blanking time has
+ *                                        passed since board_blank, if outputs are switched on
+ *   void board_outputs(uint8_t on);      switch the outputs on (from the next row) or off (now)
+ *   void board_tick_start(uint16_t row_period_us, uint16_t blanking_us);
+ *                                        call rc_scan_tick() once per row period from now on
+ *   void board_tick_stop(void);
+ *   void board_watchdog_kick(void);      the scan is alive
+ *   void board_wait_for_tick(void);      the main loop waits for the row tick to run
+ *   void board_critical_enter(void);     keep the row tick out (shared state update)
+ *   void board_critical_exit(void);
+ */
+#ifndef RC_BOARD_H
+#define RC_BOARD_H
+#include <stdint.h>
+#include "board_impl.h"
+#endif

@@ -1,0 +1,34 @@
+/* Build-time capacity and limits of the receiver (PROTOCOL.md section 6).
+ * Every value can be overridden with -D on the compiler command line. */
+#ifndef RC_CONFIG_H
+#define RC_CONFIG_H
+
+#define RC_PROTOCOL_VERSION 1u
+
+#ifndef RC_MAX_ROWS
+#define RC_MAX_ROWS 16u            /* PROTOCOL.md section 6: ATmega328P-class build */
+#endif
+#ifndef RC_MAX_BYTES_PER_ROW
+#define RC_MAX_BYTES_PER_ROW 8u
+#endif
+
+/* Shortest row period the scan interrupt is given: at 16 MHz the row interrupt takes well under
+ * 200 cycles (see tests/bench/bench_firmware.py), so 20 us (320 cycles) still leaves the main loop
+ * time to decode the serial stream. */
+#ifndef RC_MIN_ROW_PERIOD_US
+#define RC_MIN_ROW_PERIOD_US 20u
+#endif
+/* Longest row period: the watchdog is kicked once per row and times out after 16 ms (ATmega328P
+ * datasheet, watchdog prescaler table, from memory), so a row must be far shorter than that. */
+#ifndef RC_MAX_ROW_PERIOD_US
+#define RC_MAX_ROW_PERIOD_US 4000u
+#endif
+
+#define RC_FRAME_SLOTS 2u          /* front and back buffer */
+#define RC_HEADER_LEN 4u
+#define RC_CRC_LEN 2u
+#define RC_FRAME_BYTES (RC_MAX_ROWS * RC_MAX_BYTES_PER_ROW)
+/* Longest payload (FRAME: header + flags + slot bytes) plus its CRC. */
+#define RC_MSG_MAX (RC_HEADER_LEN + 1u + RC_FRAME_BYTES + RC_CRC_LEN)
+
+#endif

@@ -1,0 +1,294 @@
+/* Protocol handling, frame store and guard of the receiver (transport/PROTOCOL.md sections 1-5). */
+#include <string.h>
+#include "board.h"
+#include "cobs.h"
+#include "crc16.h"
+#include "receiver.h"
+
+rc_scan_state rc_scan;
+
+static struct {
+    uint8_t buf_a[RC_FRAME_BYTES], buf_b[RC_FRAME_BYTES];
+    uint8_t msg[RC_MSG_MAX];
+    rc_cobs_decoder dec;
+    uint8_t configured;
+    uint8_t max_lit;
+    uint16_t row_period_us, blanking_us;
+    uint8_t xor_mask[RC_MAX_BYTES_PER_ROW], count_mask[RC_MAX_BYTES_PER_ROW];
+    uint8_t have_frame_seq;
+    uint16_t frame_seq;             /* seq of the last accepted FRAME (duplicate suppression) */
+    uint16_t dropped;               /* saturating */
+} rc;
+
+uint16_t rc_rx_dropped(void) { return rc.dropped; }
+
+uint8_t rc_state_bits(void)
+{
+    return (uint8_t)((rc.configured ? RC_STATE_CONFIGURED : 0) | (rc_scan.outputs ? RC_STATE_OUTPUTS : 0));
+}
+
+static void count_drop(void)
+{
+    if (rc.dropped != 0xFFFFu)
+        rc.dropped++;
+}
+
+/* ---- replies: COBS(payload || crc) || 0x00, at most 4 + 8 + 2 bytes before stuffing ---- */
+static void reply(uint8_t type, uint16_t seq, const uint8_t *body, uint8_t n)
+{
+    uint8_t raw[RC_HEADER_LEN + 8 + RC_CRC_LEN], out[sizeof raw + 2];
+    raw[0] = RC_PROTOCOL_VERSION;
+    raw[1] = type;
+    raw[2] = (uint8_t)seq;
+    raw[3] = (uint8_t)(seq >> 8);
+    memcpy(raw + RC_HEADER_LEN, body, n);
+    uint8_t len = (uint8_t)(RC_HEADER_LEN + n);
+    uint16_t crc = rc_crc16(raw, len);
+    raw[len++] = (uint8_t)(crc >> 8);       /* high byte first: PROTOCOL.md section 1 */
+    raw[len++] = (uint8_t)crc;
+    size_t m = rc_cobs_encode(raw, len, out);
+    for (size_t i = 0; i < m; i++)
+        board_serial_put(out[i]);
+    board_serial_put(0);
+}
+
+static void ack(uint16_t seq) { reply(RC_ACK, seq, 0, 0); }
+
+static void reject(uint16_t seq, uint8_t reason, uint8_t detail)
+{
+    uint8_t body[2] = {reason, detail};
+    reply(RC_REJECT, seq, body, 2);
+}
+
+static void identity(uint16_t seq)
+{
+    uint16_t d = rc.dropped;
+    uint8_t body[8] = {RC_PROTOCOL_VERSION, RC_MAX_ROWS, RC_MAX_BYTES_PER_ROW, RC_FRAME_SLOTS,
+                       rc.configured ? rc.max_lit : 0, rc_state_bits(), (uint8_t)d, (uint8_t)(d >> 8)};
+    reply(RC_IDENTITY, seq, body, 8);
+}
+
+/* ---- frame store ---- */
+static void outputs_off(void)
+{
+    board_critical_enter();
+    rc_scan.show_req = 0;
+    rc_scan.outputs = 0;
+    board_outputs(0);
+    board_critical_exit();
+}
+
+/* A buffer with every line at its inactive level: the XOR mask is exactly that pattern
+ * (0xFF for an active-low register, 0x00 for an active-high one; composer.wiring.guard_masks). */
+static void fill_idle(uint8_t *buf)
+{
+    uint8_t *p = buf;
+    for (uint8_t r = 0; r < rc_scan.rows; r++) {
+        memcpy(p, rc.xor_mask, rc_scan.bpr);
+        p += rc_scan.bpr;
+    }
+}
+
+static void configure(uint16_t seq, const uint8_t *b, uint16_t n)
+{
+    if (n < 7 || n != 7u + 2u * b[1]) {
+        reject(seq, RC_BAD_LENGTH, 0);
+        return;
+    }
+    uint8_t rows = b[0], bpr = b[1], max_lit = b[6];
+    uint16_t period = (uint16_t)(b[2] | (b[3] << 8)), blanking = (uint16_t)(b[4] | (b[5] << 8));
+    uint8_t bad = 0xFF;
+    if (rows < 1 || rows > RC_MAX_ROWS)
+        bad = 0;
+    else if (bpr < 1 || bpr > RC_MAX_BYTES_PER_ROW)
+        bad = 1;
+    else if (period < RC_MIN_ROW_PERIOD_US || period > RC_MAX_ROW_PERIOD_US)
+        bad = 2;
+    else if (blanking >= period)
+        bad = 3;
+    else if (max_lit == 0)
+        bad = 4;                    /* 0 is IDENTITY's "not configured"; a guard that lets nothing light is a mistake */
+    if (bad != 0xFF) {
+        reject(seq, RC_BAD_CONFIG, bad);
+        return;
+    }
+    /* A CONFIGURE blanks the panel and empties both buffers (PROTOCOL.md section 3). */
+    outputs_off();
+    board_tick_stop();
+    rc.configured = 1;
+    rc.max_lit = max_lit;
+    rc.row_period_us = period;
+    rc.blanking_us = blanking;
+    memcpy(rc.xor_mask, b + 7, bpr);
+    memcpy(rc.count_mask, b + 7 + bpr, bpr);
+    rc.have_frame_seq = 0;
+    rc_scan.rows = rows;
+    rc_scan.bpr = bpr;
+    rc_scan.front = rc.buf_a;
+    rc_scan.back = rc.buf_b;
+    rc_scan.swap_req = 0;
+    fill_idle(rc.buf_a);
+    fill_idle(rc.buf_b);
+    /* Prime the shift stage with the last slot so the first tick latches an idle slot and moves on
+     * to slot 0. */
+    rc_scan.slot = (uint8_t)(rows - 1);
+    for (uint8_t i = 0; i < bpr; i++)
+        board_spi_put(rc.xor_mask[i]);
+    board_tick_start(period, blanking);
+    ack(seq);
+}
+
+/* The firmware's own guard (PROTOCOL.md section 3): lit = sum popcount((byte ^ xor) & count) per
+ * row slot; returns the first slot over the limit, or 0xFF. */
+static uint8_t guard(const uint8_t *data)
+{
+    for (uint8_t r = 0; r < rc_scan.rows; r++) {
+        uint8_t lit = 0;
+        for (uint8_t i = 0; i < rc_scan.bpr; i++) {
+            uint8_t v = (uint8_t)((*data++ ^ rc.xor_mask[i]) & rc.count_mask[i]);
+            while (v) {             /* Kernighan's popcount: one pass per set bit */
+                v &= (uint8_t)(v - 1);
+                lit++;
+            }
+        }
+        if (lit > rc.max_lit)
+            return r;
+    }
+    return 0xFF;
+}
+
+static void show(void)
+{
+    board_critical_enter();
+    rc_scan.show_req = 1;
+    board_critical_exit();
+}
+
+static void frame(uint16_t seq, const uint8_t *b, uint16_t n)
+{
+    uint16_t size = (uint16_t)(rc_scan.rows * rc_scan.bpr);
+    if (n != 1u + size) {
+        reject(seq, RC_BAD_LENGTH, 0);
+        return;
+    }
+    uint8_t flags = b[0];
+    if (flags & (uint8_t)~RC_SHOW_AFTER) {
+        reject(seq, RC_BAD_FLAGS, flags);
+        return;
+    }
+    if (rc.have_frame_seq && seq == rc.frame_seq) {
+        ack(seq);                   /* a retry after a lost ACK: not stored again */
+        return;
+    }
+    uint8_t over = guard(b + 1);
+    if (over != 0xFF) {
+        reject(seq, RC_GUARD, over);
+        return;
+    }
+    /* The back buffer may still be waiting to be swapped in; never write it before the swap
+     * (at most one full scan away), or the panel would show a half-written frame. */
+    while (rc_scan.show_req && rc_scan.swap_req)
+        board_wait_for_tick();
+    memcpy(rc_scan.back, b + 1, size);
+    board_critical_enter();
+    rc_scan.swap_req = 1;
+    board_critical_exit();
+    rc.have_frame_seq = 1;
+    rc.frame_seq = seq;
+    if (flags & RC_SHOW_AFTER)
+        show();
+    ack(seq);
+}
+
+static void handle(const uint8_t *p, uint16_t n)
+{
+    uint16_t seq = (uint16_t)(p[2] | (p[3] << 8));
+    uint8_t type = p[1];
+    const uint8_t *body = p + RC_HEADER_LEN;
+    uint16_t blen = (uint16_t)(n - RC_HEADER_LEN);
+    if (p[0] != RC_PROTOCOL_VERSION) {
+        reject(seq, RC_BAD_VERSION, p[0]);
+        return;
+    }
+    switch (type) {
+    case RC_IDENTIFY: case RC_SHOW: case RC_BLANK: case RC_PING:
+        if (blen != 0) {
+            reject(seq, RC_BAD_LENGTH, 0);
+            return;
+        }
+        break;
+    case RC_CONFIGURE:
+        configure(seq, body, blen);
+        return;
+    case RC_FRAME:
+        break;
+    default:
+        reject(seq, RC_UNKNOWN_TYPE, type);
+        return;
+    }
+    switch (type) {
+    case RC_IDENTIFY:
+        identity(seq);
+        return;
+    case RC_PING:
+        ack(seq);
+        return;
+    case RC_BLANK:
+        outputs_off();
+        ack(seq);
+        return;
+    default:
+        break;
+    }
+    if (!rc.configured) {
+        reject(seq, RC_NOT_CONFIGURED, 0);
+        return;
+    }
+    if (type == RC_SHOW) {
+        show();
+        ack(seq);
+    } else {
+        frame(seq, body, blen);
+    }
+}
+
+void rc_rx_byte(uint8_t byte)
+{
+    switch (rc_cobs_feed(&rc.dec, byte)) {
+    case RC_COBS_MORE:
+    case RC_COBS_EMPTY:
+        return;
+    case RC_COBS_BAD:
+    case RC_COBS_OVERSIZED:
+        count_drop();
+        return;
+    case RC_COBS_BLOCK:
+        break;
+    }
+    uint16_t n = rc.dec.len;
+    if (n < RC_HEADER_LEN + RC_CRC_LEN) {
+        count_drop();
+        return;
+    }
+    n = (uint16_t)(n - RC_CRC_LEN);
+    uint16_t crc = (uint16_t)((rc.msg[n] << 8) | rc.msg[n + 1]);
+    if (rc_crc16(rc.msg, n) != crc) {
+        count_drop();               /* its seq cannot be trusted: no reply (PROTOCOL.md section 1) */
+        return;
+    }
+    handle(rc.msg, n);
+}
+
+void rc_idle(void)
+{
+    if (!rc.configured)
+        board_watchdog_kick();      /* no scan to keep it fed yet */
+}
+
+void rc_init(void)
+{
+    memset(&rc, 0, sizeof rc);
+    memset(&rc_scan, 0, sizeof rc_scan);
+    rc_cobs_init(&rc.dec, rc.msg, sizeof rc.msg);
+    board_init();
+}

@@ -1,0 +1,44 @@
+/* The receiver core: protocol decoder, frame store, scan engine and guard (transport/PROTOCOL.md). */
+#ifndef RC_RECEIVER_H
+#define RC_RECEIVER_H
+#include <stdint.h>
+#include "config.h"
+
+/* Message types and reject reasons: PROTOCOL.md sections 3 and 4. */
+enum {
+    RC_IDENTIFY = 0x01, RC_CONFIGURE = 0x02, RC_FRAME = 0x03, RC_SHOW = 0x04, RC_BLANK = 0x05,
+    RC_PING = 0x06, RC_ACK = 0x80, RC_IDENTITY = 0x81, RC_REJECT = 0x82
+};
+enum {
+    RC_UNKNOWN_TYPE = 0x01, RC_BAD_LENGTH = 0x02, RC_BAD_VERSION = 0x03, RC_NOT_CONFIGURED = 0x04,
+    RC_GUARD = 0x05, RC_BAD_CONFIG = 0x06, RC_BAD_FLAGS = 0x07
+};
+#define RC_SHOW_AFTER 0x01u
+#define RC_STATE_CONFIGURED 0x01u
+#define RC_STATE_OUTPUTS 0x02u
+
+/* State shared with the row tick. Only rc_scan_tick (interrupt) and the functions in receiver.c
+ * touch it; fields the tick reads while the main loop writes are volatile. */
+typedef struct {
+    uint8_t *volatile front;        /* the buffer being scanned */
+    uint8_t *back;                  /* the buffer FRAME writes */
+    volatile uint8_t show_req;      /* SHOW waiting for the end of the current full scan */
+    volatile uint8_t swap_req;      /* ... and a fresh back buffer to swap in */
+    volatile uint8_t outputs;       /* outputs switched on */
+    uint8_t slot;                   /* row slot now in the shift stage (latched at the next tick) */
+    uint8_t rows, bpr;
+    volatile uint16_t scans;        /* full scans completed (wraps) */
+} rc_scan_state;
+
+extern rc_scan_state rc_scan;
+
+void rc_init(void);
+/* Feed one received byte (main loop). */
+void rc_rx_byte(uint8_t byte);
+/* Main-loop housekeeping: keeps the watchdog fed while no scan runs. */
+void rc_idle(void);
+/* Counters for tests and IDENTITY. */
+uint16_t rc_rx_dropped(void);
+uint8_t rc_state_bits(void);
+
+#endif

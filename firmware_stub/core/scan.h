@@ -1,0 +1,47 @@
+/* The scan engine: one row slot per tick. Included by the board layer's tick interrupt so it
+ * inlines there.
+ *
+ * The bytes of the next slot are shifted while the current one is on (a 74HC595-class register
+ * keeps its outputs until the latch pulse, common practice), so the dark gap between rows is only
+ * blank -> latch -> enable; the swap to a newly shown frame happens between the last slot of one
+ * full scan and the first slot of the next, never inside a scan. */
+#ifndef RC_SCAN_H
+#define RC_SCAN_H
+#include "board.h"
+#include "receiver.h"
+
+static inline void rc_scan_tick(void)
+{
+    rc_scan_state *s = &rc_scan;
+    board_blank();
+    board_latch();                  /* the slot shifted during the previous tick appears */
+    board_unblank_later();
+    board_watchdog_kick();
+    uint8_t slot = (uint8_t)(s->slot + 1);
+    uint8_t *src;
+    if (slot >= s->rows) {
+        slot = 0;
+        s->scans++;
+        if (s->show_req) {
+            if (s->swap_req) {
+                uint8_t *t = s->front;
+                s->front = s->back;
+                s->back = t;
+                s->swap_req = 0;
+            }
+            s->show_req = 0;
+            s->outputs = 1;
+            board_outputs(1);
+        }
+        src = s->front;
+    } else {
+        src = s->front + (uint8_t)(slot * s->bpr);
+    }
+    s->slot = slot;
+    uint8_t n = s->bpr;
+    do {
+        board_spi_put(*src++);
+    } while (--n);
+}
+
+#endif
