@@ -1,0 +1,756 @@
+"""The serial link: a port opened with pyserial's ``serial_for_url``, a service thread that reads
+replies, acknowledgements with timeout and bounded retries, a window of unacknowledged frames, a
+live mode where the newest frame wins, and reconnection when the port goes away.
+
+The guard is the last gate: every frame goes through ``composer.electrical.guard(frame, profile)``
+before it is encoded, and a blocked frame is never written. Nothing in this module's public API
+writes a frame any other way.
+
+Threads: the caller's thread (``send_frame``, ``show_live``, ``play``) and one service thread (reads,
+retransmits, sends the newest live frame, reconnects). ``on_event`` may be called from either.
+"""
+from __future__ import annotations
+
+import threading
+import time
+from collections import OrderedDict
+from dataclasses import dataclass, field
+from typing import Any, Callable, Iterable
+
+import numpy as np
+import serial
+
+from composer.errors import LinkError
+from composer.model import Animation
+from composer.profile import Profile
+from composer.wiring import guard_masks, shift_bytes
+
+from . import protocol as p
+from .receiver import line_time_s
+
+__all__ = ["Link", "LinkEvent", "SendResult", "PlayReport", "LinkStats", "EVENT_KINDS", "Window",
+           "Pending", "open_port", "guard_frame", "list_ports"]
+
+EVENT_KINDS = frozenset({"connected", "acked", "rejected", "blocked", "lost", "reconnecting", "reconnected",
+                         "closed", "error"})
+
+
+@dataclass(frozen=True)
+class LinkEvent:
+    kind: str
+    message: str
+    seq: int | None = None
+    reasons: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class SendResult:
+    """``sent``: the frame's bytes went to the port; ``acked``: the receiver stored it;
+    ``reason``: one line when not acked (blocked, rejected, no answer, link lost)."""
+
+    sent: bool
+    verdict: Any
+    acked: bool
+    reason: str = ""
+    seq: int | None = None
+
+
+@dataclass
+class PlayReport:
+    frames: int = 0        # frames due to be shown
+    acked: int = 0
+    blocked: int = 0
+    rejected: int = 0
+    failed: int = 0        # no answer, superseded or link lost
+    skipped: int = 0       # due while the link was down
+    elapsed_s: float = 0.0
+
+
+@dataclass
+class LinkStats:
+    sent: int = 0
+    retransmits: int = 0
+    acked: int = 0
+    rejected: int = 0
+    superseded: int = 0
+    timeouts: int = 0
+    stray_replies: int = 0       # replies to nothing outstanding (late or duplicate)
+    unexpected: int = 0          # CRC-correct blocks that are not device replies
+    reconnects: int = 0
+
+
+# -------------------------------------------------------------------------------------------------
+# The guard
+# -------------------------------------------------------------------------------------------------
+def _electrical():
+    from composer import electrical  # the engine; imported late so transport imports without it
+    return electrical
+
+
+def guard_frame(frame: np.ndarray, profile: Profile):
+    """``composer.electrical.guard(frame, profile)``: the one verdict every frame needs."""
+    return _electrical().guard(frame, profile)
+
+
+class _GuardCache:
+    """The verdict is a pure function of (frame, profile); an animation repeats frames, so verdicts
+    are kept by frame content (bounded)."""
+
+    def __init__(self, profile: Profile, size: int = 512) -> None:
+        self.profile, self.size = profile, size
+        self._cache: OrderedDict[bytes, Any] = OrderedDict()
+        self._lock = threading.Lock()
+
+    def __call__(self, frame: np.ndarray):
+        key = frame.tobytes()
+        with self._lock:
+            hit = self._cache.get(key)
+            if hit is not None:
+                self._cache.move_to_end(key)
+                return hit
+        verdict = guard_frame(frame, self.profile)
+        with self._lock:
+            self._cache[key] = verdict
+            if len(self._cache) > self.size:
+                self._cache.popitem(last=False)
+        return verdict
+
+
+def _reasons(verdict) -> tuple[str, ...]:
+    return tuple(str(r) for r in (getattr(verdict, "reasons", ()) or ()))
+
+
+# -------------------------------------------------------------------------------------------------
+# The window: sans-I/O bookkeeping of unacknowledged messages
+# -------------------------------------------------------------------------------------------------
+@dataclass
+class Pending:
+    seq: int
+    wire: bytes
+    is_frame: bool
+    sent_at: float = 0.0
+    tries: int = 0
+    done: bool = False
+    acked: bool = False
+    reply: p.Message | None = None
+    reason: str = ""
+    verdict: Any = None
+    frame: np.ndarray | None = field(default=None, repr=False)
+    on_done: Callable[["Pending"], None] | None = field(default=None, repr=False)
+
+
+class Window:
+    """Messages sent and not yet answered, oldest first.
+
+    The receiver answers in order (PROTOCOL.md section 5), so an answer to ``seq`` means every older
+    message still outstanding was lost or its answer was: an older FRAME is then *superseded* (the
+    newer frame is the one on the panel; sending the older one again would go backwards). When the
+    oldest message's answer is overdue, everything outstanding is sent again in order (go-back-N);
+    after ``retries`` resends the oldest gives up.
+    """
+
+    def __init__(self, size: int, timeout_s: float, retries: int) -> None:
+        if size < 1:
+            raise ValueError("window size must be at least 1")
+        self.size, self.timeout_s, self.retries = size, timeout_s, retries
+        self.items: OrderedDict[int, Pending] = OrderedDict()
+
+    def __len__(self) -> int:
+        return len(self.items)
+
+    @property
+    def has_room(self) -> bool:
+        return len(self.items) < self.size
+
+    def add(self, item: Pending, now: float) -> None:
+        item.sent_at, item.tries = now, 1
+        self.items[item.seq] = item
+
+    def answer(self, msg: p.Message) -> tuple[list[Pending], bool]:
+        """Match a reply. Returns (finished items, matched)."""
+        item = self.items.get(msg.seq)
+        if item is None:
+            return [], False
+        finished = []
+        for seq in list(self.items):
+            if seq == msg.seq:
+                break
+            older = self.items.pop(seq)
+            older.done, older.reason = True, ("superseded by a newer frame" if older.is_frame and
+                                               isinstance(msg, p.Ack) else "no answer (a later message was answered)")
+            finished.append(older)
+        self.items.pop(msg.seq)
+        item.done, item.reply = True, msg
+        if isinstance(msg, p.Reject):
+            item.reason = f"rejected by the receiver: {msg.text()}"
+        else:
+            item.acked = True
+        finished.append(item)
+        return finished, True
+
+    def overdue(self, now: float) -> tuple[list[Pending], list[Pending]]:
+        """(items to resend in order, items that gave up)."""
+        failed: list[Pending] = []
+        while self.items:
+            oldest = next(iter(self.items.values()))
+            if now - oldest.sent_at < self.timeout_s:
+                return [], failed
+            if oldest.tries <= self.retries:
+                resend = list(self.items.values())
+                for item in resend:
+                    item.sent_at, item.tries = now, item.tries + 1
+                return resend, failed
+            self.items.popitem(last=False)
+            oldest.done, oldest.reason = True, f"no answer after {oldest.tries} tries"
+            failed.append(oldest)
+        return [], failed
+
+    def fail_all(self, reason: str) -> list[Pending]:
+        out = list(self.items.values())
+        for item in out:
+            item.done, item.reason = True, reason
+        self.items.clear()
+        return out
+
+
+# -------------------------------------------------------------------------------------------------
+# Ports
+# -------------------------------------------------------------------------------------------------
+def open_port(url: str, baud: int, timeout: float = 0.01):
+    """``serial.serial_for_url`` with the failures a user meets turned into one-line LinkErrors."""
+    import transport  # noqa: F401  (registers the simrx:// handler)
+    try:
+        return serial.serial_for_url(url, baudrate=baud, timeout=timeout, write_timeout=2.0)
+    except ValueError as err:
+        raise LinkError(f"cannot open {url}: {err}") from None
+    except PermissionError:
+        raise LinkError(f"cannot open {url}: permission denied (on Linux, join the group that owns the "
+                        "port, often dialout, and log in again)") from None
+    except (serial.SerialException, OSError) as err:
+        text = " ".join(str(err).split())
+        if "No such file" in text or "could not open port" in text and "[Errno 2]" in text:
+            text = "no such port (rowcast ports lists the ones present)"
+        elif "Permission denied" in text or "[Errno 13]" in text:
+            text = "permission denied (on Linux, join the group that owns the port, often dialout)"
+        raise LinkError(f"cannot open {url}: {text}") from None
+
+
+def list_ports() -> list[tuple[str, str, str]]:
+    """Serial ports present: ``(device, description, "VID:PID" or "")`` from pyserial's
+    ``serial.tools.list_ports``; USB IDs in the usual four-hex-digit form."""
+    from serial.tools import list_ports as lp
+    out = []
+    for info in sorted(lp.comports(), key=lambda i: i.device):
+        ids = f"{info.vid:04X}:{info.pid:04X}" if info.vid is not None and info.pid is not None else ""
+        desc = info.description if info.description and info.description != "n/a" else ""
+        out.append((info.device, desc, ids))
+    return out
+
+
+# -------------------------------------------------------------------------------------------------
+# The link
+# -------------------------------------------------------------------------------------------------
+class Link:
+    """One serial link to one receiver, driving one profile's panel.
+
+    ``window``: frames that may be unacknowledged at once (1 = stop and wait). ``ack_timeout``:
+    seconds before a message is sent again; by default long enough for a full window to cross the
+    line at ``baud`` twice over, plus 100 ms of USB and scheduler latency (common practice).
+    ``opener(url, baud)`` replaces :func:`open_port` (tests wrap ports in fault injectors).
+    """
+
+    def __init__(self, url: str, profile: Profile, baud: int = 115200,
+                 on_event: Callable[[LinkEvent], None] | None = None, *, window: int = 4,
+                 ack_timeout: float | None = None, retries: int = 5, reconnect: bool = True,
+                 reconnect_interval: float = 0.25, handshake_timeout: float = 0.5,
+                 opener: Callable[[str, int], Any] | None = None) -> None:
+        self.url, self.profile, self.baud = url, profile, int(baud)
+        self.on_event = on_event
+        self.reconnect, self.reconnect_interval = reconnect, reconnect_interval
+        self.handshake_timeout = handshake_timeout
+        self._opener = opener or open_port
+        self._n_data = profile.rows * profile.n_registers
+        wire = p.frame_wire_len(self._n_data)
+        if ack_timeout is None:
+            ack_timeout = 0.1 + 2 * (window + 1) * line_time_s(wire, self.baud)
+        self._window = Window(window, ack_timeout, retries)
+        self._guard = _GuardCache(profile)
+        self._masks = guard_masks(profile)
+        self._limit = int(_electrical().firmware_lit_limit(profile))
+        self.stats = LinkStats()
+        self.decoder = p.StreamDecoder()
+        self.identity: p.Identity | None = None
+        self.port: Any = None
+        self._seq = 0
+        self._cv = threading.Condition(threading.RLock())
+        self._wlock = threading.Lock()
+        self._connected = False
+        self._closing = False
+        self._thread: threading.Thread | None = None
+        self._live: tuple[np.ndarray, Any] | None = None
+        self._last_shown: np.ndarray | None = None    # restored on the panel after a reconnect
+        self._last_rx = 0.0
+        self._need_config = False
+
+    # -- public ---------------------------------------------------------------------------------
+    @property
+    def connected(self) -> bool:
+        return self._connected
+
+    @property
+    def receiver(self):
+        """The in-process :class:`~transport.receiver.SimulatedReceiver` behind a simrx:// port, else None."""
+        return getattr(self.port, "receiver", None)
+
+    @property
+    def window(self) -> Window:
+        return self._window
+
+    def open(self) -> "Link":
+        """Open the port, identify and configure the receiver. Raises LinkError (exit status 3)."""
+        if self._thread is not None:
+            return self
+        self._closing = False
+        port = self._opener(self.url, self.baud)
+        try:
+            self._handshake(port)
+        except LinkError:
+            _close_quietly(port)
+            raise
+        self.port = port
+        self._connected = True
+        self._thread = threading.Thread(target=self._service, name=f"rowcast-link {self.url}", daemon=True)
+        self._thread.start()
+        ident = self.identity
+        self._emit("connected", f"connected to {self.url}: receiver speaks protocol {ident.version}, "
+                   f"{ident.max_rows} rows x {ident.max_bytes_per_row} bytes, guard {self._limit} lit per row")
+        return self
+
+    def close(self) -> None:
+        """Stop the service thread and close the port. What the panel shows stays shown."""
+        if self._thread is None:
+            return
+        with self._cv:
+            self._closing = True
+            failed = self._window.fail_all("link closed")
+            self._cv.notify_all()
+        self._finish(failed)
+        self._thread.join(timeout=2.0)
+        self._thread = None
+        self._connected = False
+        _close_quietly(self.port)
+        self.port = None
+        self._emit("closed", f"closed {self.url}")
+
+    def __enter__(self) -> "Link":
+        return self.open()
+
+    def __exit__(self, *exc) -> None:
+        self.close()
+
+    def check(self, frame: np.ndarray):
+        """The guard's verdict on ``frame`` for this link's profile (nothing is sent)."""
+        return self._guard(self._as_frame(frame))
+
+    def send_frame(self, frame: np.ndarray, *, timeout: float | None = None) -> SendResult:
+        """Guard, then send and wait for the receiver's answer (retries included)."""
+        item = self._submit_frame(frame, wait_room=True, timeout=timeout)
+        if isinstance(item, SendResult):
+            return item
+        self._wait_done(item)
+        return self._result(item)
+
+    def show_live(self, frame: np.ndarray) -> Any:
+        """Guard, then hand the frame to the service thread, replacing any frame not yet sent (the
+        newest wins; nothing queues up). Returns the verdict at once; answers come as events."""
+        frame = self._as_frame(frame)
+        verdict = self._guard(frame)
+        if not verdict.ok:
+            self._emit("blocked", "frame blocked by the guard: " + "; ".join(_reasons(verdict)),
+                       reasons=_reasons(verdict))
+            return verdict
+        with self._cv:
+            self._live = (frame.copy(), verdict)
+            self._cv.notify_all()
+        return verdict
+
+    def blank(self) -> SendResult:
+        """Turn the panel's outputs off until the next frame."""
+        return self._control(p.Blank)
+
+    def ping(self) -> SendResult:
+        return self._control(p.Ping)
+
+    def play(self, animation: Animation, loop: bool = False, stop_event: threading.Event | None = None, *,
+             paced: bool = True, progress: Callable[[int, SendResult | None], None] | None = None) -> PlayReport:
+        """Show the animation's frames at their durations (``paced=False``: as fast as the link
+        carries them). Frames due while the link is down are skipped; playing resumes on reconnect.
+        ``progress(index, result)`` is called as each frame's answer arrives (result None: skipped)."""
+        stop_event = stop_event or threading.Event()
+        report = PlayReport()
+        frames = np.asarray(animation.frames, np.uint8)
+        durations = [float(ms) / 1000.0 for ms in animation.durations_ms]
+        start = time.monotonic()
+        due = start
+        lock = threading.Lock()
+
+        def finished(index: int, item: Pending) -> None:
+            with lock:
+                res = self._result(item)
+                if res.acked:
+                    report.acked += 1
+                elif isinstance(item.reply, p.Reject):
+                    report.rejected += 1
+                else:
+                    report.failed += 1
+            if progress is not None:
+                progress(index, res)
+
+        while not stop_event.is_set():
+            for i in range(len(frames)):
+                if stop_event.is_set():
+                    break
+                if paced:
+                    wait = due - time.monotonic()
+                    if wait > 0 and stop_event.wait(wait):
+                        break
+                due += durations[i]
+                report.frames += 1
+                if not self._connected:
+                    report.skipped += 1
+                    if progress is not None:
+                        progress(i, None)
+                    continue
+                item = self._submit_frame(frames[i], wait_room=True, timeout=None if not paced else
+                                          max(durations[i], self._window.timeout_s * (self._window.retries + 2)),
+                                          on_done=lambda it, i=i: finished(i, it))
+                if isinstance(item, SendResult):
+                    if item.verdict is not None and not item.verdict.ok:
+                        report.blocked += 1
+                    else:
+                        report.skipped += 1
+                    if progress is not None:
+                        progress(i, item)
+            if not loop:
+                break
+        self._drain()
+        report.elapsed_s = time.monotonic() - start
+        return report
+
+    # -- sending --------------------------------------------------------------------------------
+    def _as_frame(self, frame: np.ndarray) -> np.ndarray:
+        frame = np.asarray(frame, np.uint8)
+        if frame.shape != (self.profile.rows, self.profile.cols):
+            raise ValueError(f"frame is {frame.shape}, profile {self.profile.name} is "
+                             f"{self.profile.rows}x{self.profile.cols}")
+        return frame
+
+    def _next_seq(self) -> int:
+        seq, self._seq = self._seq, (self._seq + 1) & 0xFFFF
+        return seq
+
+    def _submit_frame(self, frame: np.ndarray, *, wait_room: bool, timeout: float | None,
+                      on_done: Callable[[Pending], None] | None = None) -> Pending | SendResult:
+        frame = self._as_frame(frame)
+        verdict = self._guard(frame)                      # the last gate, before any encoding
+        if not verdict.ok:
+            reasons = _reasons(verdict)
+            self._emit("blocked", "frame blocked by the guard: " + "; ".join(reasons), reasons=reasons)
+            return SendResult(False, verdict, False, "blocked by the guard: " + "; ".join(reasons))
+        data = shift_bytes(frame, self.profile).tobytes()
+        deadline = None if timeout is None else time.monotonic() + timeout
+        with self._cv:
+            # Wait for room in the window while connected; a link that is down answers at once.
+            while self._connected and not self._closing and not (self._window.has_room and not self._need_config):
+                left = None if deadline is None else deadline - time.monotonic()
+                if left is not None and left <= 0:
+                    break
+                self._cv.wait(0.05 if left is None else min(left, 0.05))
+            if self._closing or not self._connected or not self._window.has_room or self._need_config:
+                why = "link closed" if self._closing else ("link lost; reconnecting" if not self._connected
+                                                          else "timed out waiting for the window")
+                return SendResult(False, verdict, False, why)
+            seq = self._next_seq()
+            item = Pending(seq, p.encode(p.Frame(seq, data, p.SHOW_AFTER)), True, verdict=verdict,
+                           frame=frame, on_done=on_done)
+            self._window.add(item, time.monotonic())
+            self.stats.sent += 1
+        if not self._write(item.wire):
+            return item                                   # the service thread fails it as lost
+        return item
+
+    def _control(self, make: Callable[[int], p.Message]) -> SendResult:
+        with self._cv:
+            while self._connected and len(self._window) and not self._closing:
+                self._cv.wait(0.05)
+            if not self._connected or self._closing:
+                return SendResult(False, None, False, "link lost; reconnecting" if not self._closing else "link closed")
+            seq = self._next_seq()
+            item = Pending(seq, p.encode(make(seq)), False)
+            self._window.add(item, time.monotonic())
+            self.stats.sent += 1
+        self._write(item.wire)
+        self._wait_done(item)
+        return self._result(item)
+
+    def _write(self, data: bytes) -> bool:
+        port = self.port
+        if port is None:
+            return False
+        try:
+            with self._wlock:
+                port.write(data)
+            return True
+        except (serial.SerialException, OSError, AttributeError, TypeError) as err:
+            self._lost(f"write failed: {_one_line(err)}")
+            return False
+
+    def _wait_done(self, item: Pending) -> None:
+        with self._cv:
+            while not item.done:
+                self._cv.wait(0.05)
+
+    def _drain(self) -> None:
+        with self._cv:
+            while len(self._window) and not self._closing:
+                self._cv.wait(0.05)
+
+    def _result(self, item: Pending) -> SendResult:
+        return SendResult(True, item.verdict, item.acked, item.reason, item.seq)
+
+    def _finish(self, items: Iterable[Pending]) -> None:
+        """Report finished items (outside the lock: callbacks may take their time)."""
+        for item in items:
+            if item.acked:
+                self.stats.acked += 1
+                if item.is_frame:
+                    self._last_shown = item.frame
+                self._emit("acked", f"frame {item.seq} shown" if item.is_frame else f"message {item.seq} acknowledged",
+                           seq=item.seq)
+            elif isinstance(item.reply, p.Reject):
+                self.stats.rejected += 1
+                self._emit("rejected", item.reason, seq=item.seq)
+                if item.reply.reason == p.Reason.NOT_CONFIGURED:
+                    self._need_config = True
+            elif item.reason.startswith("superseded"):
+                self.stats.superseded += 1
+            elif item.reason.startswith("no answer"):
+                self.stats.timeouts += 1
+            if item.on_done is not None:
+                try:
+                    item.on_done(item)
+                except Exception as err:  # a callback's failure must not stop the link
+                    self._emit("error", f"progress callback failed: {_one_line(err)}")
+
+    # -- the service thread ---------------------------------------------------------------------
+    def _service(self) -> None:
+        while not self._closing:
+            port = self.port
+            if port is None or not self._connected:
+                self._reconnect_loop()
+                continue
+            try:
+                waiting = port.in_waiting
+                data = port.read(max(1, min(waiting, 4096)))
+            except (serial.SerialException, OSError, AttributeError, TypeError, ValueError) as err:
+                self._lost(f"read failed: {_one_line(err)}")
+                continue
+            finished: list[Pending] = []
+            if data:
+                self._last_rx = time.monotonic()
+                for payload in self.decoder.feed(data):
+                    finished += self._on_payload(payload)
+            now = time.monotonic()
+            resend: list[Pending] = []
+            with self._cv:
+                more, failed = self._window.overdue(now)
+                resend += more
+                finished += failed
+                live = None
+                if self._live is not None and self._window.has_room and not self._need_config:
+                    frame, verdict = self._live
+                    self._live = None
+                    seq = self._next_seq()
+                    data_bytes = shift_bytes(frame, self.profile).tobytes()
+                    live = Pending(seq, p.encode(p.Frame(seq, data_bytes, p.SHOW_AFTER)), True, verdict=verdict,
+                                   frame=frame)
+                    self._window.add(live, now)
+                    self.stats.sent += 1
+                if finished:
+                    self._cv.notify_all()
+            if resend:
+                self.stats.retransmits += len(resend)
+                # A leading zero ends any half-received block at the receiver (PROTOCOL.md section 1).
+                self._write(b"\x00" + b"".join(item.wire for item in resend))
+            if live is not None:
+                self._write(live.wire)
+            self._finish(finished)
+            if any(item.reason.startswith("no answer after") for item in finished) and \
+                    time.monotonic() - self._last_rx > 4 * self._window.timeout_s:
+                self._lost("the receiver stopped answering", port_gone=False)
+            elif self._need_config and not len(self._window):
+                self._reconfigure()
+
+    def _on_payload(self, payload: bytes) -> list[Pending]:
+        try:
+            msg = p.decode_payload(payload)
+        except p.MessageError:
+            self.stats.unexpected += 1
+            return []
+        if int(msg.TYPE) not in p.DEVICE_TYPES:
+            self.stats.unexpected += 1               # e.g. our own bytes echoed by a loop:// port
+            return []
+        with self._cv:
+            finished, matched = self._window.answer(msg)
+            if not matched:
+                self.stats.stray_replies += 1
+            if finished:
+                self._cv.notify_all()
+        return finished
+
+    def _lost(self, why: str, *, port_gone: bool = True) -> None:
+        """The link is down. ``port_gone``: the port raised (closed and reopened later); otherwise the
+        receiver went quiet on a port that still works (a cut wire, a reset board), so the same port
+        is kept and the handshake retried on it (reopening a port can reset a board through DTR)."""
+        with self._cv:
+            if not self._connected or self._closing:
+                return
+            self._connected = False
+            failed = self._window.fail_all(f"link lost: {why}")
+            port = None
+            if port_gone:
+                port, self.port = self.port, None
+            self._cv.notify_all()
+        _close_quietly(port)
+        self._finish(failed)
+        self._emit("lost", f"lost {self.url}: {why}")
+
+    def _reconnect_loop(self) -> None:
+        if not self.reconnect:
+            self._closing = True
+            self._emit("error", f"{self.url} is gone and reconnecting is off")
+            return
+        self._emit("reconnecting", f"reconnecting to {self.url} every {self.reconnect_interval:g} s")
+        while not self._closing:
+            port = self.port
+            if port is None:
+                try:
+                    port = self._opener(self.url, self.baud)
+                except LinkError:
+                    time.sleep(self.reconnect_interval)
+                    continue
+            try:
+                self._handshake(port, tries=1)
+            except LinkError as err:
+                if getattr(err, "port_error", False) or port is not self.port:
+                    _close_quietly(port)
+                    with self._cv:
+                        self.port = None
+                    time.sleep(self.reconnect_interval)
+                continue
+            with self._cv:
+                self.port = port
+                self._connected = True
+                self._need_config = False
+                self.decoder.reset()
+                self.stats.reconnects += 1
+                self._cv.notify_all()
+            self._emit("reconnected", f"reconnected to {self.url}")
+            self._restore_display()
+            return
+
+    def _reconfigure(self) -> None:
+        """The receiver forgot its configuration (it was reset): configure it again in place."""
+        port = self.port
+        with self._cv:
+            self._connected = False
+        try:
+            self._handshake(port)
+        except LinkError as err:
+            self._need_config = False
+            with self._cv:
+                self._connected = True
+            self._lost(str(err))
+            return
+        with self._cv:
+            self._need_config = False
+            self._connected = True
+            self._cv.notify_all()
+        self._emit("reconnected", f"receiver on {self.url} was reset; configured it again")
+        self._restore_display()
+
+    def _restore_display(self) -> None:
+        if self._last_shown is not None and self._live is None:
+            with self._cv:
+                self._live = (self._last_shown, self._guard(self._last_shown))
+
+    # -- handshake (runs with exclusive use of the port) -----------------------------------------
+    def _request(self, port, msg: p.Message, want: type, tries: int = 3) -> p.Message:
+        """Send ``msg`` and wait for its answer on a port nobody else is reading."""
+        wire = b"\x00" + p.encode(msg)
+        decoder = p.StreamDecoder()
+        for _ in range(tries):
+            try:
+                port.write(wire)
+                deadline = time.monotonic() + self.handshake_timeout
+                while time.monotonic() < deadline:
+                    data = port.read(max(1, port.in_waiting))
+                    for payload in decoder.feed(data):
+                        try:
+                            reply = p.decode_payload(payload)
+                        except p.MessageError:
+                            continue
+                        if reply.seq == msg.seq and isinstance(reply, (want, p.Reject)):
+                            self._last_rx = time.monotonic()
+                            return reply
+            except (serial.SerialException, OSError, AttributeError, TypeError, ValueError) as err:
+                failure = LinkError(f"{self.url}: {_one_line(err)}")
+                failure.port_error = True
+                raise failure from None
+        raise LinkError(f"{self.url}: no receiver answered {type(msg).__name__.upper()} "
+                        f"({tries} tries, {self.handshake_timeout:g} s each; is the firmware running and the baud rate "
+                        f"{self.baud}?)")
+
+    def _handshake(self, port, tries: int = 3) -> None:
+        prof = self.profile
+        with self._cv:
+            seq = self._next_seq()
+        ident = self._request(port, p.Identify(seq), p.Identity, tries)
+        if isinstance(ident, p.Reject):
+            raise LinkError(f"{self.url}: receiver refused IDENTIFY: {ident.text()}")
+        if ident.version != p.VERSION:
+            raise LinkError(f"{self.url}: receiver speaks protocol {ident.version}, rowcast speaks {p.VERSION}")
+        if ident.max_rows < prof.rows or ident.max_bytes_per_row < prof.n_registers:
+            raise LinkError(f"{self.url}: receiver holds at most {ident.max_rows} rows x {ident.max_bytes_per_row} "
+                            f"bytes per row; profile {prof.name} needs {prof.rows} x {prof.n_registers}")
+        with self._cv:
+            seq = self._next_seq()
+        cfg = p.Configure(seq, prof.rows, prof.n_registers, int(round(prof.scan.row_period_us)),
+                          int(round(prof.scan.blanking_us)), self._limit, self._masks.xor, self._masks.count)
+        reply = self._request(port, cfg, p.Ack, max(tries, 3))
+        if isinstance(reply, p.Reject):
+            raise LinkError(f"{self.url}: receiver refused the configuration of profile {prof.name}: {reply.text()}")
+        self.identity = p.Identity(ident.seq, ident.version, ident.max_rows, ident.max_bytes_per_row,
+                                   ident.frame_slots, self._limit, 1, ident.rx_dropped)
+
+    # -- events ---------------------------------------------------------------------------------
+    def _emit(self, kind: str, message: str, *, seq: int | None = None, reasons: tuple[str, ...] = ()) -> None:
+        if self.on_event is None:
+            return
+        try:
+            self.on_event(LinkEvent(kind, " ".join(message.split()), seq, tuple(reasons)))
+        except Exception:  # an observer's bug must not stop the link
+            pass
+
+
+def _one_line(err: BaseException) -> str:
+    return " ".join(str(err).split()) or type(err).__name__
+
+
+def _close_quietly(port) -> None:
+    if port is None:
+        return
+    try:
+        port.close()
+    except Exception:
+        pass
