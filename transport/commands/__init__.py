@@ -1,0 +1,1 @@
+"""The transport's ``rowcast`` subcommands: ``stream`` and ``ports``."""
