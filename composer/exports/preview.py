@@ -6,7 +6,8 @@ visible. Images are palette images built with numpy (no loop over LEDs): palette
 
 GIF timing: GIF stores frame delays in hundredths of a second (GIF89a specification, Graphic
 Control Extension "Delay Time"), so each frame's milliseconds are rounded to the nearest 10 ms,
-never below 10 ms, and no frame is dropped - two identical frames in a row stay two frames.
+never below 10 ms (and never above the field's 655.35 s), and no frame is dropped - two identical
+frames in a row stay two frames.
 """
 from __future__ import annotations
 
@@ -20,7 +21,7 @@ from ..errors import InputError
 from ..model import Animation
 
 __all__ = ["COLOURS_RGB", "OFF_RGB", "BOARD_RGB", "LEVELS", "MIN_SCALE", "MAX_SCALE", "DEFAULT_SCALE",
-           "MAX_PIXELS", "check_scale", "gif_delays_ms", "frame_image", "gif_bytes", "png_sheet_bytes", "sheet_layout"]
+           "MAX_PIXELS", "GIF_MAX_CS", "check_scale", "gif_delays_ms", "frame_image", "gif_bytes", "png_sheet_bytes", "sheet_layout"]
 
 BOARD_RGB = (12, 12, 12)
 OFF_RGB = (46, 40, 36)                       # a dim dot: the LED is there but dark
@@ -80,10 +81,13 @@ def frame_image(frame: np.ndarray, scale: int = DEFAULT_SCALE) -> Image.Image:
     return img
 
 
+GIF_MAX_CS = 0xFFFF   # GIF89a: the delay field is an unsigned 16-bit count of 1/100 s (655.35 s)
+
+
 def gif_delays_ms(durations_ms: np.ndarray) -> list[int]:
-    """Milliseconds as GIF can store them: nearest 10 ms (halves up), at least 10 ms."""
+    """Milliseconds as GIF can store them: nearest 10 ms (halves up), at least 10 ms, at most 655,350 ms."""
     ms = np.asarray(durations_ms, np.int64)
-    return [int(v) * 10 for v in np.maximum(1, (ms + 5) // 10)]
+    return [int(v) * 10 for v in np.clip((ms + 5) // 10, 1, GIF_MAX_CS)]
 
 
 def gif_bytes(anim: Animation, scale: int = DEFAULT_SCALE) -> bytes:
