@@ -1,0 +1,205 @@
+"""The LED canvas: ONE widget drawing lines (``render_line`` -> ``Strip``), refreshing only the
+lines that changed.
+
+Every LED state has its own glyph as well as a colour, so the picture reads in 16-colour and
+NO_COLOR terminals: off ``·`` (dim), red ``●``, green ``▲``, amber ``◆``. With the onion skin on,
+an off LED that was lit in the previous frame shows that frame's hollow glyph (``○ △ ◇``, dim).
+The cursor is drawn in reverse video, the region between the mark and the cursor underlined.
+
+:class:`LedView` draws a frame; :class:`LedCanvas` adds the cursor, mark and onion skin and is
+the one the user edits. The device preview in the link panel is a plain :class:`LedView`.
+"""
+from __future__ import annotations
+
+from functools import lru_cache
+
+import numpy as np
+from rich.segment import Segment
+from rich.style import Style
+from textual.geometry import Size
+from textual.message import Message
+from textual.scroll_view import ScrollView
+from textual.strip import Strip
+
+from ..model import AMBER, GREEN, OFF, RED
+
+__all__ = ["LedView", "LedCanvas", "GLYPH", "HOLLOW", "COLOUR", "CELL_W", "GUTTER_W"]
+
+GLYPH = {OFF: "·", RED: "●", GREEN: "▲", AMBER: "◆"}
+HOLLOW = {OFF: "·", RED: "○", GREEN: "△", AMBER: "◇"}
+COLOUR = {OFF: "#6c6c6c", RED: "#ff3a3a", GREEN: "#3ad13a", AMBER: "#ffb000"}
+CELL_W = 2          # glyph + one space: LEDs stay square-ish in a terminal cell grid
+GUTTER_W = 3        # row number + space
+
+# flags packed beside the state so one small code keys the style table
+_ONION, _CURSOR, _REGION = 4, 8, 16
+
+
+@lru_cache(maxsize=None)
+def _cell(code: int) -> tuple[str, Style]:
+    state = code & 3
+    onion_state = (code >> 5) & 3
+    if state == OFF and code & _ONION:
+        glyph, style = HOLLOW[onion_state], Style(color=COLOUR[onion_state], dim=True)
+    elif state == OFF:
+        glyph, style = GLYPH[OFF], Style(color=COLOUR[OFF], dim=True)
+    else:
+        glyph, style = GLYPH[state], Style(color=COLOUR[state], bold=True)
+    if code & _REGION:
+        style += Style(underline=True)
+    if code & _CURSOR:
+        style += Style(reverse=True)
+    return glyph, style
+
+
+_GAP = Segment(" ")
+_DIM = Style(dim=True)
+
+
+class LedView(ScrollView, can_focus=False):
+    """Draws one frame of LED states with row and column numbers."""
+
+    DEFAULT_CSS = """
+    LedView { height: auto; width: auto; min-width: 10; }
+    """
+
+    def __init__(self, rows: int, cols: int, *, name: str | None = None, id: str | None = None,
+                 classes: str | None = None) -> None:
+        super().__init__(name=name, id=id, classes=classes)
+        self._frame = np.zeros((rows, cols), np.uint8)
+        self._codes = np.zeros((rows, cols), np.uint16)
+        self._strips: dict[int, Strip] = {}
+        self.virtual_size = Size(GUTTER_W + CELL_W * cols, rows + 1)
+        self.lines_rendered = 0       # for the benchmark: proves a redraw happened
+
+    # -- layout -----------------------------------------------------------------------------
+    def get_content_width(self, container: Size, viewport: Size) -> int:
+        return self.virtual_size.width
+
+    def get_content_height(self, container: Size, viewport: Size, width: int) -> int:
+        return self.virtual_size.height
+
+    @property
+    def frame(self) -> np.ndarray:
+        return self._frame
+
+    def resize_panel(self, rows: int, cols: int) -> None:
+        self._frame = np.zeros((rows, cols), np.uint8)
+        self._codes = np.zeros((rows, cols), np.uint16)
+        self._strips.clear()
+        self.virtual_size = Size(GUTTER_W + CELL_W * cols, rows + 1)
+        self.refresh(layout=True)
+
+    # -- state -> codes ---------------------------------------------------------------------
+    def _compute_codes(self) -> np.ndarray:
+        return self._frame.astype(np.uint16)
+
+    def show(self, frame: np.ndarray) -> None:
+        self._frame = np.array(frame, np.uint8)
+        self._update_codes()
+
+    def _update_codes(self) -> None:
+        """Recompute the style codes and refresh only the rows whose codes changed."""
+        new = self._compute_codes()
+        if new.shape != self._codes.shape:
+            self._codes = new
+            self._strips.clear()
+            self.refresh()
+            return
+        changed = np.flatnonzero(np.any(new != self._codes, axis=1))
+        self._codes = new
+        for r in changed.tolist():
+            self._strips.pop(int(r), None)
+            self.refresh_line(int(r) + 1)
+
+    # -- drawing ----------------------------------------------------------------------------
+    def _header(self) -> Strip:
+        cols = self._codes.shape[1]
+        text = " " * GUTTER_W + "".join(f"{c % 10} " for c in range(cols))
+        return Strip([Segment(text, _DIM)])
+
+    def _row_strip(self, r: int) -> Strip:
+        strip = self._strips.get(r)
+        if strip is None:
+            codes = self._codes[r]
+            segments = [Segment(f"{r:>2} ", _DIM)]
+            # one Segment per run of equal cells, not per LED
+            edges = np.flatnonzero(np.diff(codes)) + 1
+            starts = np.concatenate(([0], edges)).tolist()
+            ends = np.concatenate((edges, [len(codes)])).tolist()
+            for s, e in zip(starts, ends):
+                glyph, style = _cell(int(codes[s]))
+                if style.underline:
+                    segments.append(Segment((glyph + " ") * (e - s), style))
+                else:
+                    segments.append(Segment(" ".join(glyph * (e - s)), style))
+                    segments.append(_GAP)
+            strip = Strip(segments)
+            self._strips[r] = strip
+        return strip
+
+    def render_line(self, y: int) -> Strip:
+        scroll_x, scroll_y = self.scroll_offset
+        y += scroll_y
+        self.lines_rendered += 1
+        if y == 0:
+            strip = self._header()
+        elif 1 <= y <= self._codes.shape[0]:
+            strip = self._row_strip(y - 1)
+        else:
+            return Strip.blank(self.size.width, self.rich_style)
+        return strip.crop(scroll_x, scroll_x + self.size.width).apply_style(self.rich_style)
+
+
+class LedCanvas(LedView, can_focus=True):
+    """The editable canvas: cursor, mark/region and onion skin over the frame being edited."""
+
+    class Clicked(Message):
+        def __init__(self, row: int, col: int) -> None:
+            super().__init__()
+            self.row, self.col = row, col
+
+    def __init__(self, rows: int, cols: int, **kw) -> None:
+        super().__init__(rows, cols, **kw)
+        self._onion: np.ndarray | None = None
+        self.cursor = (0, 0)
+        self.mark: tuple[int, int] | None = None
+
+    def show_state(self, frame: np.ndarray, onion: np.ndarray | None, cursor: tuple[int, int],
+                   mark: tuple[int, int] | None) -> None:
+        self._frame = np.array(frame, np.uint8)
+        self._onion = None if onion is None else np.array(onion, np.uint8)
+        self.cursor, self.mark = cursor, mark
+        self._update_codes()
+        self.scroll_to_region_of_cursor()
+
+    def _compute_codes(self) -> np.ndarray:
+        codes = self._frame.astype(np.uint16)
+        if self._onion is not None:
+            lit_before = (self._onion != OFF) & (self._frame == OFF)
+            codes |= np.where(lit_before, _ONION | (self._onion.astype(np.uint16) << 5), 0).astype(np.uint16)
+        r, c = self.cursor
+        if self.mark is not None:
+            (mr, mc) = self.mark
+            codes[min(r, mr):max(r, mr) + 1, min(c, mc):max(c, mc) + 1] |= _REGION
+        codes[r, c] |= _CURSOR
+        return codes
+
+    def scroll_to_region_of_cursor(self) -> None:
+        # only large panels scroll; keep the cursor in view
+        if self.size.width and (self.virtual_size.width > self.size.width
+                                or self.virtual_size.height > self.size.height):
+            from textual.geometry import Region
+            r, c = self.cursor
+            self.scroll_to_region(Region(GUTTER_W + CELL_W * c, r + 1, CELL_W, 1), animate=False,
+                                  immediate=True)
+
+    def on_click(self, event) -> None:
+        offset = event.get_content_offset(self)
+        if offset is None:
+            return
+        x = offset.x + self.scroll_offset.x - GUTTER_W
+        y = offset.y + self.scroll_offset.y - 1
+        rows, cols = self._frame.shape
+        if x >= 0 and 0 <= y < rows and x // CELL_W < cols:
+            self.post_message(self.Clicked(int(y), int(x // CELL_W)))

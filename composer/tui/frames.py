@@ -1,0 +1,75 @@
+"""The frame strip: every frame's number, duration and the engine's verdict, one widget drawing
+three lines, scrolled so the frame on the canvas is always in view.
+
+A verdict reads without colour: ``ok`` within every limit, ``!row`` / ``!pin`` ... names the
+first rule the frame breaks, ``..`` not checked yet (no engine). ``*`` marks frames picked for
+"set duration"; the frame on the canvas is in reverse video.
+"""
+from __future__ import annotations
+
+from rich.segment import Segment
+from rich.style import Style
+from textual.strip import Strip
+from textual.widget import Widget
+
+__all__ = ["FrameStrip", "CELL"]
+
+CELL = 7                                   # characters per frame, separator included
+_OK = Style(color="#3ad13a")
+_BAD = Style(color="#ff3a3a", bold=True)
+_DIM = Style(dim=True)
+_CUR = Style(reverse=True, bold=True)
+
+
+class FrameStrip(Widget, can_focus=False):
+    DEFAULT_CSS = """
+    FrameStrip { height: 3; width: 1fr; }
+    """
+
+    def __init__(self, **kw) -> None:
+        super().__init__(**kw)
+        self.durations: list[int] = [100]
+        self.verdicts: list[str | None] = [None]      # None: not checked; "" ok; else rule name
+        self.current = 0
+        self.selected: set[int] = set()
+        self.playing = False
+
+    def update_frames(self, durations, verdicts, current: int, selected: set[int], playing: bool = False) -> None:
+        self.durations = [int(d) for d in durations]
+        self.verdicts = list(verdicts)
+        self.current, self.selected, self.playing = current, set(selected), playing
+        self.refresh()
+
+    def _first_visible(self) -> int:
+        fit = max(1, self.size.width // CELL)
+        n = len(self.durations)
+        return max(0, min(self.current - fit // 2, n - fit))
+
+    def render_line(self, y: int) -> Strip:
+        width = self.size.width
+        fit = max(1, width // CELL)
+        first = self._first_visible()
+        segments: list[Segment] = []
+        for i in range(first, min(first + fit, len(self.durations))):
+            cur = i == self.current
+            if y == 0:
+                mark = "*" if i in self.selected else " "
+                text, style = f"{i:>4}{mark} ", _DIM
+                if cur:
+                    text, style = f"{'▶' if self.playing else '>'}{i:>3}{mark} ", _CUR
+            elif y == 1:
+                ms = self.durations[i]
+                label = f"{ms}ms" if ms < 10_000 else f"{ms // 1000}s"
+                text, style = f"{label:>6}", (_CUR if cur else Style())
+            else:
+                verdict = self.verdicts[i] if i < len(self.verdicts) else None
+                if verdict is None:
+                    text, style = f"{'..':>6}", _DIM
+                elif verdict == "":
+                    text, style = f"{'ok':>6}", _OK
+                else:
+                    text, style = f"{'!' + verdict[:4]:>6}", _BAD
+            segments.append(Segment(text, style))
+            segments.append(Segment("│", _DIM))
+        strip = Strip(segments)
+        return strip.extend_cell_length(width).crop(0, width).apply_style(self.rich_style)

@@ -1,0 +1,100 @@
+"""The composer's key map: one table that builds the BINDINGS, the help screen, the command
+palette and the README check, so they cannot disagree.
+
+Arrows and h/j/k/l for movement are common practice in terminal programs; the rest are our own.
+"""
+from __future__ import annotations
+
+from textual.binding import Binding
+
+__all__ = ["GROUPS", "editor_bindings", "all_keys"]
+
+# (group, [(keys, action, description, footer label or None)])
+GROUPS: list[tuple[str, list[tuple[str, str, str, str | None]]]] = [
+    ("Move", [
+        ("up,k", "move(-1,0)", "cursor up", None),
+        ("down,j", "move(1,0)", "cursor down", None),
+        ("left,h", "move(0,-1)", "cursor left", None),
+        ("right,l", "move(0,1)", "cursor right", None),
+    ]),
+    ("Draw", [
+        ("1", "brush(1)", "brush red", None),
+        ("2", "brush(2)", "brush green", None),
+        ("3", "brush(3)", "brush amber", None),
+        ("0", "brush(0)", "brush off", None),
+        ("space", "paint", "paint the LED with the brush", "paint"),
+        ("t", "toggle", "toggle the LED between brush and off", None),
+        ("backspace", "erase", "turn the LED off", None),
+        ("e", "pen", "pen: paint every LED the cursor moves onto (on/off)", None),
+        ("f", "fill", "fill the area of equal LEDs under the cursor", None),
+        ("o", "onion", "onion skin of the previous frame (on/off)", None),
+    ]),
+    ("Region and clipboard", [
+        ("m", "mark", "set / clear the mark (the region runs from mark to cursor)", None),
+        ("escape", "unmark", "clear the mark", None),
+        ("/", "line", "line from the mark to the cursor", None),
+        ("b", "box(False)", "box outline from the mark to the cursor", None),
+        ("B", "box(True)", "filled box from the mark to the cursor", None),
+        ("c", "copy", "copy the region (the whole frame with no mark)", None),
+        ("x", "cut", "cut the region", None),
+        ("v", "paste(False)", "paste at the cursor (works across frames)", None),
+        ("V", "paste(True)", "paste at the cursor, off LEDs see-through", None),
+    ]),
+    ("Whole picture", [
+        ("shift+up,K", "shift(-1,0)", "shift the picture up", None),
+        ("shift+down,J", "shift(1,0)", "shift the picture down", None),
+        ("shift+left,H", "shift(0,-1)", "shift the picture left", None),
+        ("shift+right,L", "shift(0,1)", "shift the picture right", None),
+        ("w", "wrap", "shifts wrap round the edges (on/off)", None),
+        ("|", "mirror('horizontal')", "mirror left-right", None),
+        ("_", "mirror('vertical')", "mirror top-bottom", None),
+        ("r", "rotate(1)", "rotate a quarter turn clockwise (square panels)", None),
+        ("R", "rotate(-1)", "rotate a quarter turn anticlockwise (square panels)", None),
+        ("i", "invert", "invert the brush colour's LEDs (off brush: both colours)", None),
+        ("E", "clear", "erase the whole frame", None),
+    ]),
+    ("Frames", [
+        ("],pagedown", "frame(1)", "next frame", "next"),
+        ("[,pageup", "frame(-1)", "previous frame", None),
+        ("home", "first_frame", "first frame", None),
+        ("end", "last_frame", "last frame", None),
+        ("a", "add_frame", "add a blank frame after this one", "add"),
+        ("d", "duplicate_frame", "duplicate this frame", None),
+        ("D", "delete_frame", "delete this frame", None),
+        ("{", "move_frame(-1)", "move this frame earlier", None),
+        ("}", "move_frame(1)", "move this frame later", None),
+        ("s", "select_frame", "pick / unpick this frame for set duration", None),
+        ("=", "duration", "set the duration of this frame (or of the picked frames)", None),
+        ("!", "next_bad", "jump to the next frame over a limit", None),
+        ("p", "play", "play / pause at the frames' durations", "play"),
+    ]),
+    ("Link to the panel", [
+        ("g", "toggle_link", "show the link panel / the readout", "link"),
+        ("O", "pick_port", "choose a port or type a pyserial URL", None),
+        ("C", "connect", "connect / disconnect", None),
+        ("~", "live", "live mode: send every edit (on/off)", None),
+        ("P", "play_device", "play the animation on the device / stop", None),
+    ]),
+    ("File and history", [
+        ("z", "undo", "undo", "undo"),
+        ("Z", "redo", "redo", None),
+        ("ctrl+s", "save", "save", "save"),
+        ("S", "save_as", "save as", None),
+        ("?,f1", "help", "keys (this list)", "keys"),
+        ("q,ctrl+q", "quit", "quit (asks about unsaved changes)", "quit"),
+    ]),
+]
+
+
+def editor_bindings() -> list[Binding]:
+    out = []
+    for _group, rows in GROUPS:
+        for keys, action, description, footer in rows:
+            prio = action == "quit"        # ctrl+q must reach us before the app's own quit
+            out.append(Binding(keys, action, footer or description, show=footer is not None,
+                               tooltip=description, priority=prio))
+    return out
+
+
+def all_keys() -> list[str]:
+    return [k for _g, rows in GROUPS for keys, *_ in rows for k in keys.split(",")]

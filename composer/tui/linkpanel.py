@@ -1,0 +1,315 @@
+"""The link panel: choose a port, connect, live mode, play on the device, the link's status, and
+what the device displays.
+
+With a ``simrx://`` port the preview is the simulated receiver's ``displayed`` frame, decoded
+from the bytes that crossed the link (through the wiring map), never a copy of the editor's
+frame; with a real port it shows the last frame the receiver acknowledged. Every frame passes the
+guard inside :class:`transport.Link`; a blocked frame is shown as blocked and never sent.
+
+The link runs on its own thread; its events come back with ``post_message`` (thread-safe) and
+every widget is touched on the UI thread only. Opening, closing and playing run in workers, and
+any failure becomes a status line: a vanished port never takes the editor down.
+"""
+from __future__ import annotations
+
+import threading
+
+import numpy as np
+from textual import on, work
+from textual.app import ComposeResult
+from textual.containers import Horizontal, Vertical
+from textual.message import Message
+from textual.widgets import Button, Input, Label, Select, Static
+
+from ..model import Animation
+from ..profile import Profile
+from .canvas import LedView
+
+__all__ = ["LinkPanel", "SIM_URL"]
+
+SIM_URL = "simrx://{profile}"
+_POLL_S = 0.1          # how often the preview re-reads the simulated receiver
+
+
+def _transport():
+    import transport  # the transport station; imported when a link is wanted (it may be missing)
+    return transport
+
+
+class LinkPanel(Vertical):
+    class LinkNews(Message):
+        """A transport event or a worker's outcome, carried to the UI thread."""
+
+        def __init__(self, kind: str, text: str, reasons: tuple[str, ...] = ()) -> None:
+            super().__init__()
+            self.kind, self.text, self.reasons = kind, text, reasons
+
+    class Ports(Message):
+        def __init__(self, options: list[tuple[str, str]]) -> None:
+            super().__init__()
+            self.options = options
+
+    def __init__(self, profile: Profile, url: str | None, **kw) -> None:
+        super().__init__(**kw)
+        self.profile = profile
+        self.sim_url = SIM_URL.format(profile=profile.name)
+        self.url = url or self.sim_url
+        self.auto_connect = url is not None
+        self.link = None
+        self.live = url is not None
+        self.state = "disconnected"
+        self.blocked: tuple[str, ...] = ()
+        self._stop_play: threading.Event | None = None
+        self._pending: np.ndarray | None = None    # the newest frame, sent when live mode turns on
+        self._shown: np.ndarray | None = None
+
+    def compose(self) -> ComposeResult:
+        yield Label("link to the panel", classes="pane-title")
+        yield Select([(f"simulated receiver ({self.sim_url})", self.sim_url)], value=self.sim_url,
+                     allow_blank=False, id="port-select", compact=True)
+        yield Input(self.url, placeholder="any pyserial URL or device path", id="port-url", compact=True)
+        with Horizontal(id="link-buttons"):
+            yield Button("connect", id="link-connect", compact=True)
+            yield Button("live", id="link-live", compact=True)
+            yield Button("play", id="link-play", compact=True)
+        yield Static("disconnected", id="link-status", markup=False)
+        yield Label("the device shows:", classes="pane-title")
+        yield LedView(self.profile.rows, self.profile.cols, id="device")
+        yield Static("", id="device-note", markup=False)
+
+    def on_mount(self) -> None:
+        self.call_after_refresh(self._refresh_labels)
+        self.set_interval(_POLL_S, self._poll_receiver)
+        self._list_ports()
+        if self.auto_connect:
+            self.call_after_refresh(self.connect)
+
+    # -- port list ----------------------------------------------------------------------------
+    @work(thread=True, exclusive=True, group="ports", exit_on_error=False)
+    def _list_ports(self) -> None:
+        try:
+            ports = _transport().list_ports()
+        except Exception:  # noqa: BLE001 - no port list is not an error; the URL box still works
+            return
+        options = []
+        for port in ports:
+            device = getattr(port, "device", None) or (port[0] if isinstance(port, (tuple, list)) else str(port))
+            desc = getattr(port, "description", "") or ""
+            options.append((f"{device} {desc}".strip(), str(device)))
+        self.post_message(self.Ports(options))
+
+    def on_link_panel_ports(self, message: "LinkPanel.Ports") -> None:
+        select = self.query_one("#port-select", Select)
+        choices = [(f"simulated receiver ({self.sim_url})", self.sim_url)] + message.options
+        select.set_options(choices)
+        values = {v for _t, v in choices}
+        select.value = self.url if self.url in values else self.sim_url
+
+    @on(Select.Changed, "#port-select")
+    def _picked(self, event: Select.Changed) -> None:
+        if isinstance(event.value, str):
+            self.query_one("#port-url", Input).value = event.value
+
+    @on(Input.Submitted, "#port-url")
+    def _typed(self, event: Input.Submitted) -> None:
+        event.stop()
+        self.connect()
+
+    def pick_port(self) -> None:
+        self.query_one("#port-url", Input).focus()
+
+    # -- connect / disconnect -----------------------------------------------------------------
+    @on(Button.Pressed, "#link-connect")
+    def _connect_pressed(self, event: Button.Pressed) -> None:
+        event.stop()
+        self.toggle_connect(None)
+
+    @on(Button.Pressed, "#link-live")
+    def _live_pressed(self, event: Button.Pressed) -> None:
+        event.stop()
+        self.toggle_live(self._pending)
+
+    @on(Button.Pressed, "#link-play")
+    def _play_pressed(self, event: Button.Pressed) -> None:
+        event.stop()
+        editor = self.screen
+        self.toggle_play(editor.session.anim if hasattr(editor, "session") else None)
+
+    def toggle_connect(self, frame: np.ndarray | None) -> None:
+        if frame is not None:
+            self._pending = np.array(frame)
+        if self.link is not None:
+            self.disconnect()
+        else:
+            self.connect()
+
+    def connect(self) -> None:
+        if self.link is not None or self.state == "connecting":
+            return
+        url = self.query_one("#port-url", Input).value.strip() or self.sim_url
+        self.url = url
+        self.state = "connecting"
+        self._say(f"connecting to {url}…")
+        self._open(url)
+
+    @work(thread=True, exclusive=True, group="link-open", exit_on_error=False)
+    def _open(self, url: str) -> None:
+        try:
+            t = _transport()
+            link = t.Link(url, self.profile, on_event=self._event_from_link)
+            link.open()
+        except Exception as err:  # noqa: BLE001 - LinkError, a missing station, a driver fault: all a status line
+            self.post_message(self.LinkNews("failed", " ".join(str(err).split()) or type(err).__name__))
+            return
+        self.link = link
+        self.post_message(self.LinkNews("opened", f"connected to {url}"))
+
+    def _event_from_link(self, event) -> None:
+        # may run on the link's service thread: post_message is the thread-safe way in
+        self.post_message(self.LinkNews(str(event.kind), str(event.message), tuple(event.reasons)))
+
+    def disconnect(self) -> None:
+        self.stop_play()
+        link, self.link = self.link, None
+        self.state = "disconnected"
+        self._say("disconnected")
+        if link is not None:
+            self._close(link)
+
+    @work(thread=True, group="link-close", exit_on_error=False)
+    def _close(self, link) -> None:
+        try:
+            link.close()
+        except Exception:  # noqa: BLE001 - closing a port that already vanished
+            pass
+
+    def shutdown(self) -> None:
+        """On quit: stop playing and close the port (what the panel shows stays shown)."""
+        self.stop_play()
+        link, self.link = self.link, None
+        if link is not None:
+            try:
+                link.close()
+            except Exception:  # noqa: BLE001
+                pass
+
+    # -- live mode ----------------------------------------------------------------------------
+    def toggle_live(self, frame: np.ndarray | None) -> None:
+        self.live = not self.live
+        self._refresh_labels()
+        self._say("live: every edit is sent" if self.live else "live off")
+        if self.live and frame is not None:
+            self.frame_edited(frame)
+
+    def frame_edited(self, frame: np.ndarray) -> None:
+        """The frame on the canvas changed (an edit, another frame chosen)."""
+        self._pending = np.array(frame)
+        if not (self.live and self.link is not None and self.link.connected) or self._stop_play is not None:
+            return
+        try:
+            verdict = self.link.show_live(self._pending)
+        except Exception as err:  # noqa: BLE001 - the port went away under us
+            self._say(f"not sent: {' '.join(str(err).split())}", error=True)
+            return
+        self.blocked = () if verdict.ok else tuple(str(r) for r in verdict.reasons)
+        self._refresh_labels()
+
+    # -- play on the device -------------------------------------------------------------------
+    def toggle_play(self, anim: Animation | None) -> None:
+        if self._stop_play is not None:
+            self.stop_play()
+            self._say("stopped playing")
+            return
+        if self.link is None or anim is None:
+            self._say("connect first (C)", error=True)
+            return
+        self._stop_play = threading.Event()
+        self._refresh_labels()
+        self._say(f"playing {anim.n_frames} frames on the device (P stops)")
+        self._play(self.link, anim.copy(), self._stop_play)
+
+    def stop_play(self) -> None:
+        if self._stop_play is not None:
+            self._stop_play.set()
+            self._stop_play = None
+            self._refresh_labels()
+
+    @work(thread=True, exclusive=True, group="link-play", exit_on_error=False)
+    def _play(self, link, anim: Animation, stop: threading.Event) -> None:
+        try:
+            report = link.play(anim, loop=True, stop_event=stop)
+            text = (f"played: {report.acked} acknowledged, {report.blocked} blocked, {report.rejected} "
+                    f"rejected, {report.failed} failed, {report.skipped} skipped")
+            self.post_message(self.LinkNews("played", text))
+        except Exception as err:  # noqa: BLE001
+            self.post_message(self.LinkNews("error", " ".join(str(err).split())))
+
+    # -- news from the link --------------------------------------------------------------------
+    def on_link_panel_link_news(self, news: "LinkPanel.LinkNews") -> None:
+        kind = news.kind
+        if kind == "opened":
+            self.state = "connected"
+            self._say(news.text)
+            if self.live and self._pending is not None:
+                self.frame_edited(self._pending)
+        elif kind == "failed":
+            self.state = "disconnected"
+            self.link = None
+            self._say(news.text, error=True)
+        elif kind == "blocked":
+            self.blocked = news.reasons or (news.text,)
+            self._say(news.text, error=True)
+        elif kind == "acked":
+            self.blocked = ()
+            self._say(f"acknowledged: {news.text}")
+        elif kind in ("lost", "reconnecting"):
+            self.state = kind
+            self._say(news.text, error=True)
+        elif kind in ("reconnected", "connected"):
+            self.state = "connected"
+            self._say(news.text)
+        elif kind in ("rejected", "error"):
+            self._say(news.text, error=True)
+        else:
+            self._say(news.text)
+        self._refresh_labels()
+        self._poll_receiver()
+
+    # -- the preview --------------------------------------------------------------------------
+    def _poll_receiver(self) -> None:
+        link = self.link
+        receiver = getattr(link, "receiver", None) if link is not None else None
+        shown = None
+        if receiver is not None:
+            try:
+                shown = receiver.displayed
+            except Exception:  # noqa: BLE001 - a receiver mid-reset
+                shown = None
+        if shown is None:
+            return
+        if self._shown is None or not np.array_equal(shown, self._shown):
+            self._shown = np.array(shown)
+            self.query_one("#device", LedView).show(self._shown)
+
+    def _refresh_labels(self) -> None:
+        if not self.is_mounted:
+            return
+        self.query_one("#link-connect", Button).label = "disconnect" if self.link is not None else "connect"
+        self.query_one("#link-live", Button).label = "live: on" if self.live else "live: off"
+        self.query_one("#link-play", Button).label = "stop" if self._stop_play is not None else "play"
+        note = self.query_one("#device-note", Static)
+        if self.blocked:
+            note.update("BLOCKED, not sent: " + "; ".join(self.blocked))
+            note.add_class("error")
+        else:
+            sim = self.link is not None and getattr(self.link, "receiver", None) is not None
+            note.update("decoded from the bytes on the link" if sim else
+                        ("a real receiver: no read-back" if self.link is not None else ""))
+            note.remove_class("error")
+
+    def _say(self, text: str, *, error: bool = False) -> None:
+        if not self.is_mounted:
+            return
+        status = self.query_one("#link-status", Static)
+        status.update(f"[{self.state}] {text}")
+        status.set_class(error, "error")
