@@ -105,7 +105,7 @@ def _bad_blocks() -> list[dict]:
         {"name": "longer than the receiver buffer (ATmega328P-class build: 135 bytes decoded)",
          "wire": oversized.hex(), "expect": "drop", "reply": ""},
         {"name": "empty block (flush zero)", "wire": "00", "expect": "ignore", "reply": ""},
-        {"name": "garbage then a good ping", "wire": (bytes((0x55, 0xAA, 0x13)) + good).hex(),
+        {"name": "garbage then a good ping", "wire": (bytes((0x55, 0xAA, 0x13, 0x00)) + good).hex(),
          "expect": "reply", "reply": reply(p.Ack(20)), "note": "the garbage block is dropped, the ping answered"},
         {"name": "protocol version 2", "wire": p.wire_block(bytes((2, 6, 21, 0))).hex(), "expect": "reply",
          "reply": reply(p.Reject(21, p.Reason.BAD_VERSION, 2))},

@@ -15,9 +15,7 @@ Any pyserial URL works (device paths, ``loop://``, ``socket://``, ``rfc2217://``
 """
 from __future__ import annotations
 
-import serial as _serial
-
-from .link import EVENT_KINDS, Link, LinkEvent, LinkStats, PlayReport, SendResult, list_ports
+from .link import EVENT_KINDS, Link, LinkEvent, LinkStats, PlayReport, SendResult, list_ports, register_url_handler
 from .receiver import SimulatedReceiver
 
 __all__ = ["Link", "LinkEvent", "SendResult", "PlayReport", "LinkStats", "EVENT_KINDS", "SimulatedReceiver",
@@ -26,5 +24,4 @@ __all__ = ["Link", "LinkEvent", "SendResult", "PlayReport", "LinkStats", "EVENT_
 SIM_SCHEME = "simrx"
 
 # pyserial finds URL handlers as <package>.protocol_<scheme>: this makes simrx:// a pyserial URL.
-if __name__ not in _serial.protocol_handler_packages:
-    _serial.protocol_handler_packages.append(__name__)
+register_url_handler()

@@ -29,7 +29,7 @@ from . import protocol as p
 from .receiver import line_time_s
 
 __all__ = ["Link", "LinkEvent", "SendResult", "PlayReport", "LinkStats", "EVENT_KINDS", "Window",
-           "Pending", "open_port", "guard_frame", "list_ports"]
+           "Pending", "open_port", "guard_frame", "list_ports", "register_url_handler"]
 
 EVENT_KINDS = frozenset({"connected", "acked", "rejected", "blocked", "lost", "reconnecting", "reconnected",
                          "closed", "error"})
@@ -216,9 +216,16 @@ class Window:
 # -------------------------------------------------------------------------------------------------
 # Ports
 # -------------------------------------------------------------------------------------------------
+def register_url_handler() -> None:
+    """Let pyserial find ``transport.protocol_simrx`` for ``simrx://`` URLs (it looks up
+    ``<package>.protocol_<scheme>`` in ``serial.protocol_handler_packages``)."""
+    if "transport" not in serial.protocol_handler_packages:
+        serial.protocol_handler_packages.append("transport")
+
+
 def open_port(url: str, baud: int, timeout: float = 0.01):
     """``serial.serial_for_url`` with the failures a user meets turned into one-line LinkErrors."""
-    import transport  # noqa: F401  (registers the simrx:// handler)
+    register_url_handler()
     try:
         return serial.serial_for_url(url, baudrate=baud, timeout=timeout, write_timeout=2.0)
     except ValueError as err:
