@@ -1,0 +1,327 @@
+"""``analyse``: every frame's currents in every part, checked against the limits, all frames at once.
+
+The row circuit is solved once per profile and corner for every (lit red, lit green) count
+(``solve.count_table``); a frame's analysis is then its lit counts (one pass over the LEDs) and
+table lookups, vectorised over frames x rows. ``guard`` is the same evaluation on one frame at the
+stress corner; ``firmware_lit_limit`` reads the same tables.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import InputError
+from ..model import check_frame_array
+from ..profile import COLOURS, Profile
+from .counts import ColumnGroup, column_groups, lit_counts
+from .flash import flash_check
+from .limits import Limits, Violation, limits_for
+from .report import Report, Verdict
+from .solve import CORNERS, Circuit, count_table
+from .timing import Timing, scan_timing
+
+__all__ = ["analyse", "guard", "firmware_lit_limit"]
+
+
+@dataclass(frozen=True)
+class _Prep:
+    circuit: Circuit
+    timing: Timing
+    limits: Limits
+    groups: tuple[ColumnGroup, ...]
+    group_colour: np.ndarray      # (G,) colour index of each column register
+    c1: int                       # cols + 1
+    i_row_ma: np.ndarray          # flat tables indexed by n_red * c1 + n_green
+    i_led_ma: np.ndarray          # (c1*c1, 2)
+    p_drv_w: np.ndarray           # instantaneous driver channel power
+    pkg_onehot: np.ndarray        # (rows, packages)
+    row_ok: np.ndarray            # (c1*c1, rows) every per-row rule holds for these counts in this row
+    pkg_max_lit: np.ndarray       # (c1*c1, 2) most outputs of one register of a colour that may be on
+    row_power_w: np.ndarray       # (c1*c1,) driver channel power * duty (heating)
+    res_bound_w: np.ndarray       # (c1*c1, 2) per-row share of the column resistor bound (W)
+
+
+_CACHE: dict[tuple[int, str], tuple[Profile, _Prep]] = {}
+_VERDICTS: dict[tuple[int, bytes], tuple[Profile, Verdict]] = {}
+
+
+def _prep(profile: Profile, corner: str) -> _Prep:
+    key = (id(profile), corner)
+    hit = _CACHE.get(key)
+    if hit is not None and hit[0] is profile:
+        return hit[1]
+    if corner not in CORNERS:
+        raise InputError(f'corner "{corner}" is not one of {", ".join(CORNERS)}')
+    table = count_table(profile, corner)
+    timing = scan_timing(profile)
+    limits = limits_for(profile, timing)
+    groups = column_groups(profile)
+    npk = len(limits.package_rows)
+    onehot = np.zeros((profile.rows, npk))
+    onehot[np.arange(profile.rows), limits.row_package] = 1.0
+    i_row = table.i_row.ravel() * 1e3
+    i_led = table.i_led.reshape(-1, 2) * 1e3
+    d = timing.effective_duty
+    # The per-row rules of _evaluate, tabulated for the guard's fast path (same limits, same tables).
+    row_ok = ((i_row[:, None] <= limits.row_peak_ma[None, :]) & (i_row[:, None] <= limits.supply_ma)
+              & ((i_led <= limits.led_peak_ma).all(-1) & (i_led * d <= limits.led_average_ma).all(-1)
+                 & (i_led.max(-1) <= limits.pin_ma))[:, None])
+    with np.errstate(divide="ignore"):
+        pkg_max = np.where(i_led > 0, np.floor(limits.package_ma / np.where(i_led > 0, i_led, 1.0)), 1e9)
+    r_col = np.array(table.circuit.column_r)
+    prep = _Prep(table.circuit, timing, limits, groups, np.array([g.colour for g in groups], dtype=np.intp),
+                 profile.cols + 1, i_row, i_led, (table.v_driver * table.i_row).ravel(), onehot, row_ok,
+                 pkg_max, (table.v_driver * table.i_row).ravel() * d, (i_led * 1e-3) ** 2 * r_col * d)
+    if len(_CACHE) > 32:
+        _CACHE.pop(next(iter(_CACHE)))
+    _CACHE[key] = (profile, prep)
+    return prep
+
+
+def analyse(frames, durations_ms, profile: Profile, *, corner: str = "typ") -> Report:
+    """Analyse ``(F, rows, cols)`` LED states shown for ``durations_ms`` (one per frame)."""
+    frames = check_frame_array(frames)
+    if frames.shape[1:] != (profile.rows, profile.cols):
+        raise InputError(f"frames are {frames.shape[1]}x{frames.shape[2]} LEDs but profile {profile.name} is "
+                         f"{profile.rows}x{profile.cols}")
+    durations = np.asarray(durations_ms, dtype=np.int64).reshape(-1)
+    if durations.shape[0] != frames.shape[0]:
+        raise InputError(f"{frames.shape[0]} frames but {durations.shape[0]} durations")
+    return _evaluate(frames, durations, profile, corner, whole=True)
+
+
+def guard(frame, profile: Profile) -> Verdict:
+    """One frame at the stress corner: may it be shown? Same engine as :func:`analyse`."""
+    frame = np.asarray(frame, dtype=np.uint8)
+    if frame.shape != (profile.rows, profile.cols):
+        raise InputError(f"frame is {'x'.join(map(str, frame.shape))} but profile {profile.name} is "
+                         f"{profile.rows}x{profile.cols}")
+    key = (id(profile), frame.tobytes())
+    hit = _VERDICTS.get(key)
+    if hit is not None and hit[0] is profile:
+        return hit[1]
+    p = _prep(profile, "stress")
+    if _quick_ok(frame[None], p):
+        verdict = Verdict(True, (), ())
+    else:
+        report = _evaluate(frame[None], None, profile, "stress", whole=False)
+        vs = tuple(report.violations)
+        verdict = Verdict(not vs, tuple(str(v) for v in vs), vs)
+    if len(_VERDICTS) >= 1024:   # a stream loops over the same frames: remember recent verdicts
+        _VERDICTS.pop(next(iter(_VERDICTS)))
+    _VERDICTS[key] = (profile, verdict)
+    return verdict
+
+
+def _quick_ok(frames: np.ndarray, p: _Prep) -> bool:
+    """True when every frame-level rule holds (a fast path of _evaluate for the guard; when it says
+    no, _evaluate itself says why)."""
+    lim = p.limits
+    counts = lit_counts(frames, p.groups)
+    n = counts.n
+    idx = n[..., 0] * p.c1 + n[..., 1]                                  # (1, R)
+    if not p.row_ok[idx, np.arange(idx.shape[1])].all():
+        return False
+    if (counts.per_register > p.pkg_max_lit[idx][..., p.group_colour]).any():
+        return False
+    if p.i_row_ma[idx].sum() * p.timing.effective_duty > lim.supply_ma:
+        return False
+    if lim.ambient_c + lim.theta_ja * (p.row_power_w[idx] @ p.pkg_onehot).max() > lim.tj_max_c:
+        return False
+    if p.circuit.row_r > 0:
+        return bool(((p.i_row_ma[idx] * 1e-3) ** 2 * p.circuit.row_r * p.timing.effective_duty
+                     <= lim.resistor_w[0]).all())
+    # column resistors: the bound over lit rows; if it is near the rating take the exact path
+    return bool((p.res_bound_w[idx].sum(axis=1) <= 0.5 * lim.resistor_w).all())
+
+
+def firmware_lit_limit(profile: Profile) -> int:
+    """Lit LEDs per row slot the receiver's own guard should allow: the largest count for which
+    every split between colours, packed as tightly onto one register as the wiring allows, stays
+    within every per-row limit at the stress corner (a coarse backstop, not the real check)."""
+    p = _prep(profile, "stress")
+    lim, t = p.limits, p.timing
+    c1 = p.c1
+    n = np.arange(c1)
+    nr, ng = np.meshgrid(n, n, indexing="ij")
+    i_row = p.i_row_ma.reshape(c1, c1)
+    i_led = p.i_led_ma.reshape(c1, c1, 2)
+    biggest = [max([len(g.cols) for g in p.groups if g.colour == k], default=0) for k in range(2)]
+    pkg = np.maximum(np.minimum(nr, biggest[0]) * i_led[..., 0], np.minimum(ng, biggest[1]) * i_led[..., 1])
+    ok = ((i_row <= lim.row_peak_ma.min()) & (i_row <= lim.supply_ma) & (pkg <= lim.package_ma)
+          & (i_led.max(-1) <= lim.pin_ma) & (i_led <= lim.led_peak_ma).all(-1)
+          & (i_led * t.effective_duty <= lim.led_average_ma).all(-1))
+    total = nr + ng
+    bad = total[~ok]
+    return int(bad.min() - 1) if bad.size else int(total.max())
+
+
+def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile, corner: str, *,
+              whole: bool) -> Report:
+    p = _prep(profile, corner)
+    lim, t, circ = p.limits, p.timing, p.circuit
+    d = t.effective_duty
+    counts = lit_counts(frames, p.groups)
+    n = counts.n                                              # (F, R, 2)
+    idx = n[..., 0] * p.c1 + n[..., 1]
+    row_ma = p.i_row_ma[idx]                                  # (F, R)
+    led_ma = p.i_led_ma[idx]                                  # (F, R, 2), 0 where that colour is unlit
+    f_count, rows = row_ma.shape
+    fa = np.arange(f_count)
+    worst_row = row_ma.argmax(axis=1)
+    worst_row_ma = row_ma[fa, worst_row]
+    supply_avg = row_ma.sum(axis=1) * d
+    checks: list[tuple[str, np.ndarray, np.ndarray, str, object]] = []
+
+    # driver channel peak
+    ratio = row_ma / lim.row_peak_ma
+    r_i = ratio.argmax(axis=1)
+    checks.append(("row-driver-peak", row_ma[fa, r_i], lim.row_peak_ma[r_i], "mA",
+                   lambda f, r_i=r_i: f"row {r_i[f]}"))
+    # driver package heating, as if the frame were held
+    pkg_w = (p.p_drv_w[idx] * d) @ p.pkg_onehot                # (F, packages)
+    tj = lim.ambient_c + lim.theta_ja * pkg_w
+    k_i = tj.argmax(axis=1)
+    driver_tj = tj[fa, k_i]
+    checks.append(("row-driver-thermal", driver_tj, lim.tj_max_c, "C",
+                   lambda f, k_i=k_i: _package_name(lim, int(k_i[f]))))
+    # LED peak and average, per colour
+    led_max = led_ma.max(axis=1)                               # (F, 2)
+    led_row = led_ma.argmax(axis=1)
+    for rule, measured, limit in (("led-peak", led_max, lim.led_peak_ma),
+                                  ("led-average", led_max * d, lim.led_average_ma)):
+        c_i = (measured / limit).argmax(axis=1)
+        checks.append((rule, measured[fa, c_i], limit[c_i], "mA",
+                       lambda f, c_i=c_i: f"{COLOURS[c_i[f]]} LEDs in row {led_row[f, c_i[f]]}"))
+    # register pins carry one LED each in a row slot
+    pin_c = led_max.argmax(axis=1)
+    pin_ma = led_max[fa, pin_c]
+    checks.append(("register-pin", pin_ma, lim.pin_ma, "mA",
+                   lambda f: _pin_name(frames[f], p.groups, int(led_row[f, pin_c[f]]), int(pin_c[f]))))
+    # register package: all its outputs in one row slot
+    pkg_ma = counts.per_register * led_ma[..., p.group_colour]   # (F, R, G)
+    flat = pkg_ma.reshape(f_count, -1)
+    g_i = flat.argmax(axis=1)
+    package_ma = flat[fa, g_i]
+    groups_n = len(p.groups)
+    checks.append(("register-package", package_ma, lim.package_ma, "mA",
+                   lambda f: (f"{p.groups[g_i[f] % groups_n].register.name} in row {g_i[f] // groups_n} "
+                              f"({counts.per_register[f, g_i[f] // groups_n, g_i[f] % groups_n]} outputs on)")))
+    # supply
+    checks.append(("supply-peak", worst_row_ma, lim.supply_ma, "mA",
+                   lambda f: f"supply while row {worst_row[f]} is on"))
+    checks.append(("supply-average", supply_avg, lim.supply_ma, "mA",
+                   lambda f: "supply, averaged over the scan"))
+    # resistors
+    res_w, res_where = _resistor_power(frames, row_ma, led_ma, circ, lim, d)
+    res_limit = lim.resistor_w[res_where[1]] if len(lim.resistor_w) > 1 else np.full(f_count, lim.resistor_w[0])
+    checks.append(("resistor-power", res_w, res_limit, "W",
+                   lambda f: _resistor_name(circ, res_where, f)))
+
+    frame_ok = np.ones(f_count, dtype=bool)
+    utilisation = np.zeros(f_count)
+    violations: list[Violation] = []
+    for rule, measured, limit, unit, where in checks:
+        ratio = measured / limit
+        over = ratio > 1 + 1e-12
+        utilisation = np.maximum(utilisation, ratio)
+        if not over.any():
+            continue
+        frame_ok &= ~over
+        limit = np.broadcast_to(limit, measured.shape)
+        for f in np.flatnonzero(over).tolist():
+            violations.append(Violation(f, rule, where(f), float(measured[f]), float(limit[f]), unit))
+    violations.sort(key=lambda v: v.frame)
+
+    stuck_parts = _stuck(row_ma, led_ma, p, circ, lim) if whole else {}
+    stuck = np.zeros(f_count, dtype=bool)
+    for mask in stuck_parts.values():
+        stuck |= mask
+
+    flash = None
+    if whole:
+        if t.shift_us > t.row_period_us:
+            violations.append(Violation(None, "scan-timing", f"{profile.n_registers} registers at "
+                                        f"{profile.scan.shift_clock_hz:g} Hz", t.shift_us, t.row_period_us, "us"))
+        flash = flash_check(frames, durations, profile)
+        for rule, value in (("flash-general", flash.general_per_s), ("flash-red", flash.red_per_s)):
+            if value > 3.0:
+                violations.append(Violation(None, rule, "whole panel", value, 3.0, "flashes/s"))
+    if durations is None:
+        durations = np.ones(f_count, dtype=np.int64)
+    n_lit = n > 0
+    led_min = np.where(n_lit, led_ma, np.inf).min(axis=1)
+    led_min = np.where(np.isfinite(led_min), led_min, np.nan)
+    led_max_nan = np.where(n_lit.any(axis=1), led_max, np.nan)
+    return Report(
+        profile=profile.name, corner=corner, durations_ms=durations, row_ma=row_ma, worst_row=worst_row,
+        worst_row_ma=worst_row_ma, pin_ma_max=pin_ma, package_ma_max=package_ma, supply_peak_ma=worst_row_ma,
+        supply_avg_ma=supply_avg, frame_ok=frame_ok, row_limit_ma=lim.row_limit_ma, violations=violations,
+        timing=t, flash=flash, led_ma_min=led_min, led_ma_max=led_max_nan, driver_tj_c=driver_tj,
+        resistor_w_max=res_w, stuck_scan=stuck, stuck_parts=stuck_parts, utilisation=utilisation)
+
+
+def _package_name(lim: Limits, k: int) -> str:
+    rows = lim.package_rows[k]
+    return f"row driver package {k + 1} (rows {rows[0]}-{rows[-1]})"
+
+
+def _pin_name(frame: np.ndarray, groups: tuple[ColumnGroup, ...], row: int, colour: int) -> str:
+    lit = np.flatnonzero(frame[row] & (1 << colour))
+    for col in lit.tolist():
+        for g in groups:
+            if g.colour == colour and col in g.q_of_col:
+                return f"{g.register.name} pin Q{g.q_of_col[col]} (column {col}, row {row})"
+    return f"{COLOURS[colour]} column register, row {row}"
+
+
+def _resistor_power(frames, row_ma, led_ma, circ: Circuit, lim: Limits, d: float):
+    """Worst resistor dissipation per frame, and where: (watts (F,), (index (F,), colour (F,)))."""
+    f_count = row_ma.shape[0]
+    fa = np.arange(f_count)
+    if circ.row_r > 0:                                          # one resistor per row
+        w = (row_ma * 1e-3) ** 2 * circ.row_r * d
+        r_i = w.argmax(axis=1)
+        return w[fa, r_i], (r_i, np.zeros(f_count, dtype=np.intp))
+    r_col = np.array(circ.column_r)
+    # Each column resistor carries at most one LED per row slot, so summing over the lit rows of a
+    # colour bounds every column's dissipation; frames whose bound is near the rating are computed exactly.
+    bound = ((led_ma * 1e-3) ** 2).sum(axis=1) * r_col * d       # (F, 2)
+    c_i = (bound / lim.resistor_w).argmax(axis=1)
+    w = bound[fa, c_i]
+    col = np.full(f_count, -1, dtype=np.intp)
+    near = np.flatnonzero((bound > 0.5 * lim.resistor_w).any(axis=1))
+    if near.size:
+        exact = np.zeros((near.size, 2))
+        where = np.zeros((near.size, 2), dtype=np.intp)
+        for k in range(2):
+            lit = (frames[near] & (1 << k)) != 0                  # (n, R, C)
+            per_col = ((led_ma[near, :, k, None] * 1e-3) ** 2 * lit).sum(axis=1) * r_col[k] * d
+            exact[:, k] = per_col.max(axis=1)
+            where[:, k] = per_col.argmax(axis=1)
+        ck = (exact / lim.resistor_w).argmax(axis=1)
+        w[near] = exact[np.arange(near.size), ck]
+        c_i[near] = ck
+        col[near] = where[np.arange(near.size), ck]
+    return w, (col, c_i)
+
+
+def _resistor_name(circ: Circuit, res_where, f: int) -> str:
+    index, colour = res_where
+    if circ.row_r > 0:
+        return f"row {index[f]} resistor"
+    return f"{COLOURS[colour[f]]} column {index[f]} resistor"
+
+
+def _stuck(row_ma, led_ma, p: _Prep, circ: Circuit, lim: Limits) -> dict[str, np.ndarray]:
+    """If the scan stopped with one row latched on (100 % duty), which frames overload which part."""
+    out = {"led": (led_ma > lim.led_average_ma).any(axis=(1, 2))}
+    # one driver channel on continuously: its power against the package's limit
+    i_a = row_ma * 1e-3
+    out["row-driver"] = (circ.driver.drop(i_a) * i_a > lim.package_power_w).any(axis=1)
+    if circ.row_r > 0:
+        out["resistor"] = (i_a ** 2 * circ.row_r > lim.resistor_w[0]).any(axis=1)
+    else:
+        out["resistor"] = (((led_ma * 1e-3) ** 2 * np.array(circ.column_r)) > lim.resistor_w).any(axis=(1, 2))
+    return out

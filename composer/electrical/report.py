@@ -1,0 +1,145 @@
+"""The analysis result: arrays per frame and row, the violations, and the documented JSON."""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .flash import FlashResult
+from .limits import RULES, Violation
+from .timing import Timing
+
+__all__ = ["Report", "Verdict", "JSON_FORMAT"]
+
+JSON_FORMAT = "rowcast-check/1"
+
+
+def _r(x: float, nd: int = 4) -> float | None:
+    x = float(x)
+    return None if not np.isfinite(x) else round(x, nd)
+
+
+@dataclass
+class Report:
+    """What ``analyse`` found. Currents in mA, powers in W, temperatures in C.
+
+    Per frame ``(F,)`` unless noted: ``row_ma`` is ``(F, rows)``; ``led_ma_min`` / ``led_ma_max`` are
+    ``(F, 2)`` (red, green; NaN where that colour is not lit).
+    """
+
+    profile: str
+    corner: str
+    durations_ms: np.ndarray
+    row_ma: np.ndarray
+    worst_row: np.ndarray
+    worst_row_ma: np.ndarray
+    pin_ma_max: np.ndarray
+    package_ma_max: np.ndarray
+    supply_peak_ma: np.ndarray
+    supply_avg_ma: np.ndarray
+    frame_ok: np.ndarray
+    row_limit_ma: float
+    violations: list[Violation]
+    timing: Timing
+    flash: FlashResult | None
+    led_ma_min: np.ndarray
+    led_ma_max: np.ndarray
+    driver_tj_c: np.ndarray
+    resistor_w_max: np.ndarray
+    stuck_scan: np.ndarray                      # (F,) bool: over a continuous rating if the scan stops
+    stuck_parts: dict[str, np.ndarray] = field(default_factory=dict)   # part -> (F,) bool
+    utilisation: np.ndarray = field(default=None)                       # (F,) worst measured / limit
+
+    @property
+    def n_frames(self) -> int:
+        return int(self.row_ma.shape[0])
+
+    @property
+    def ok(self) -> bool:
+        return not self.violations
+
+    @property
+    def worst_frame(self) -> int:
+        return int(np.argmax(self.utilisation))
+
+    def frames_over(self) -> dict[str, int]:
+        """Rule id -> number of frames over that limit (frame-level rules)."""
+        out: dict[str, set[int]] = {}
+        for v in self.violations:
+            if v.frame is not None:
+                out.setdefault(v.rule, set()).add(v.frame)
+        return {rule: len(out[rule]) for rule in RULES if rule in out}
+
+    def frame_violations(self, index: int) -> list[Violation]:
+        return [v for v in self.violations if v.frame == index]
+
+    def to_json(self) -> dict:
+        by_frame: dict[int, list[dict]] = {}
+        for v in self.violations:
+            if v.frame is not None:
+                by_frame.setdefault(v.frame, []).append(v.to_json())
+        frames = []
+        for i in range(self.n_frames):
+            frames.append({
+                "index": i,
+                "ms": int(self.durations_ms[i]),
+                "worst_row": int(self.worst_row[i]),
+                "worst_row_ma": _r(self.worst_row_ma[i]),
+                "row_ma": [_r(x) for x in self.row_ma[i]],
+                "pin_ma_max": _r(self.pin_ma_max[i]),
+                "package_ma_max": _r(self.package_ma_max[i]),
+                "supply_peak_ma": _r(self.supply_peak_ma[i]),
+                "supply_avg_ma": _r(self.supply_avg_ma[i]),
+                "led_ma_range": {c: [_r(self.led_ma_min[i, k]), _r(self.led_ma_max[i, k])]
+                                 for k, c in enumerate(("red", "green"))},
+                "driver_tj_c": _r(self.driver_tj_c[i], 2),
+                "resistor_w_max": _r(self.resistor_w_max[i], 6),
+                "stuck_scan_over": bool(self.stuck_scan[i]),
+                "ok": bool(self.frame_ok[i]),
+                "violations": by_frame.get(i, []),
+            })
+        t = self.timing
+        weights = self.durations_ms / self.durations_ms.sum()
+        flash = self.flash
+        summary = {
+            "profile": self.profile,
+            "corner": self.corner,
+            "ok": self.ok,
+            "frames": self.n_frames,
+            "frames_ok": int(self.frame_ok.sum()),
+            "worst_frame": self.worst_frame,
+            "frames_over": self.frames_over(),
+            "refresh_hz": _r(t.refresh_hz, 2),
+            "duty": _r(t.duty, 6),
+            "effective_duty": _r(t.effective_duty, 6),
+            "row_period_us": _r(t.row_period_us, 3),
+            "shift_us": _r(t.shift_us, 3),
+            "row_limit_ma": _r(self.row_limit_ma),
+            "supply_peak_ma": _r(self.supply_peak_ma.max()),
+            "supply_avg_ma": _r(float((self.supply_avg_ma * weights).sum())),
+            "led_ma_range": {c: [_r(np.nanmin(self.led_ma_min[:, k], initial=np.inf)),
+                                 _r(np.nanmax(self.led_ma_max[:, k], initial=-np.inf))]
+                             for k, c in enumerate(("red", "green"))},
+            "driver_tj_max_c": _r(self.driver_tj_c.max(), 2),
+            "flicker": {"region": t.flicker_region, "text": t.flicker_text},
+            "flash": None if flash is None else {
+                "ok": flash.ok, "general_per_s": flash.general_per_s, "red_per_s": flash.red_per_s,
+                "worst_per_s": flash.worst_per_s, "message": flash.message},
+            "stuck_scan": {
+                "frames": np.flatnonzero(self.stuck_scan).tolist(),
+                "parts": {part: int(mask.sum()) for part, mask in self.stuck_parts.items()}},
+            "violations": [v.to_json() for v in self.violations if v.frame is None],
+        }
+        return {"format": JSON_FORMAT, "summary": summary, "frames": frames}
+
+
+@dataclass(frozen=True)
+class Verdict:
+    """The guard's answer for one frame."""
+
+    ok: bool
+    reasons: tuple[str, ...]
+    violations: tuple[Violation, ...]
+
+    def __bool__(self) -> bool:
+        return self.ok
