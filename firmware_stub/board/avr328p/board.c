@@ -50,10 +50,13 @@ void board_init(void)
 void board_tick_start(uint16_t row_period_us, uint16_t blanking_us)
 {
     uint16_t blank = (uint16_t)(blanking_us * RC_CYCLES_PER_US + RC_BLANK_LEAD_CYCLES);
+    uint16_t top = (uint16_t)(row_period_us * RC_CYCLES_PER_US - 1u);
+    if (blank > top)
+        blank = top;
     TCCR1B = 0;
     TCCR1A = 0;
     TCNT1 = 0;
-    OCR1A = (uint16_t)(row_period_us * RC_CYCLES_PER_US - 1u);
+    OCR1A = top;
     OCR1B = blank;
     TIFR1 = _BV(OCF1A) | _BV(OCF1B);
     TIMSK1 = _BV(OCIE1A) | _BV(OCIE1B);

@@ -4,6 +4,7 @@
 #include <stdint.h>
 #include <string.h>
 #include "board.h"
+#include "cobs.h"
 #include "receiver.h"
 #include "scan.h"
 
@@ -104,3 +105,16 @@ uint32_t host_kicks(void) { return h.kicks; }
 uint32_t host_state(void) { return rc_state_bits(); }
 uint32_t host_dropped(void) { return rc_rx_dropped(); }
 uint32_t host_scans(void) { return rc_scan.scans; }
+
+/* The streaming COBS decoder on one block (delimiter not included): decoded length, or -1 when
+ * the block is refused. */
+int32_t host_cobs_decode(const uint8_t *in, uint32_t n, uint8_t *out, uint32_t cap)
+{
+    rc_cobs_decoder d;
+    rc_cobs_init(&d, out, (uint16_t)cap);
+    for (uint32_t i = 0; i < n; i++) {
+        if (in[i] == 0 || rc_cobs_feed(&d, in[i]) != RC_COBS_MORE)
+            return -1;
+    }
+    return rc_cobs_feed(&d, 0) == RC_COBS_BLOCK ? (int32_t)d.len : -1;
+}

@@ -1,0 +1,353 @@
+"""Host build of the receiver core (gcc), driven through ctypes.
+
+The C codec is checked against outside references: the CRC against Python's ``binascii.crc_hqx``
+(the same MSB-first polynomial 0x1021 CRC; with initial value 0xFFFF it is CRC-16/IBM-3740) and the
+published check value 0x29B1 (Greg Cook, "Catalogue of parametrised CRC algorithms", CRC-16/IBM-3740
+entry); COBS against the shared vectors and the worked examples of the COBS paper's encoding rules
+(Cheshire and Baker 1999). Every message vector in ``transport/protocol_vectors.json`` is replayed
+against the C receiver byte for byte.
+"""
+from __future__ import annotations
+
+import binascii
+import ctypes
+import json
+import subprocess
+from pathlib import Path
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from composer.profile import load_profile
+from composer.wiring import frame_from_shift_bytes, guard_masks, shift_bytes
+from tests.conftest import ROOT, need_tool
+from transport import protocol as P
+
+FW = ROOT / "firmware_stub"
+VECTORS = json.loads((ROOT / "transport" / "protocol_vectors.json").read_text())
+
+EV_SPI, EV_LATCH, EV_BLANK, EV_UNBLANK, EV_OUTPUTS, EV_TICK_START, EV_TICK_STOP = range(1, 8)
+
+
+@pytest.fixture(scope="module")
+def lib(tmp_path_factory):
+    need_tool("gcc")
+    need_tool("make")
+    build = tmp_path_factory.mktemp("fw-host")
+    subprocess.run(["make", "-s", "-C", str(FW), f"BUILD={build}", "host"], check=True)
+    so = ctypes.CDLL(str(build / "librc_host.so"))
+    so.rc_crc16.restype = ctypes.c_uint16
+    so.rc_crc16.argtypes = [ctypes.c_char_p, ctypes.c_size_t]
+    so.rc_cobs_encode.restype = ctypes.c_size_t
+    so.rc_cobs_encode.argtypes = [ctypes.c_char_p, ctypes.c_size_t, ctypes.c_char_p]
+    so.host_cobs_decode.restype = ctypes.c_int32
+    so.host_cobs_decode.argtypes = [ctypes.c_char_p, ctypes.c_uint32, ctypes.c_char_p, ctypes.c_uint32]
+    so.host_feed.argtypes = [ctypes.c_char_p, ctypes.c_uint32]
+    so.host_events.restype = ctypes.c_uint32
+    so.host_events.argtypes = [ctypes.POINTER(ctypes.c_uint32), ctypes.c_uint32]
+    so.host_tx.restype = ctypes.c_uint32
+    so.host_tx.argtypes = [ctypes.c_char_p, ctypes.c_uint32]
+    for name in ("host_tick", "host_oe", "host_kicks", "host_state", "host_dropped", "host_scans"):
+        getattr(so, name).restype = ctypes.c_uint32 if name != "host_tick" else ctypes.c_int
+    return so
+
+
+class Rx:
+    """One receiver fresh from reset."""
+
+    def __init__(self, so) -> None:
+        self.so = so
+        so.host_reset()
+
+    def feed(self, data: bytes) -> bytes:
+        self.so.host_feed(data, len(data))
+        return self.tx()
+
+    def send(self, msg) -> list:
+        out = P.StreamDecoder().feed(self.feed(P.encode(msg)))
+        return [P.decode_payload(p) for p in out]
+
+    def tx(self) -> bytes:
+        buf = ctypes.create_string_buffer(4096)
+        n = self.so.host_tx(buf, 4096)
+        return buf.raw[:n]
+
+    def tick(self, n: int = 1) -> None:
+        for _ in range(n):
+            assert self.so.host_tick() == 1, "no scan running"
+
+    def events(self) -> list[tuple[int, int]]:
+        buf = (ctypes.c_uint32 * 65536)()
+        n = self.so.host_events(buf, 65536)
+        return [(v >> 24, v & 0xFFFFFF) for v in buf[:n]]
+
+    def latched(self, bpr: int) -> list[bytes]:
+        """Every latched chain state, in order: the last ``bpr`` bytes shifted before each latch
+        (a 74HC595-class chain keeps only the newest bytes, common practice)."""
+        shifted: list[int] = []
+        out = []
+        for kind, value in self.events():
+            if kind == EV_SPI:
+                shifted.append(value)
+            elif kind == EV_LATCH:
+                out.append(bytes(shifted[-bpr:]))
+        return out
+
+
+def configure_msg(profile, seq=1, period=80, blanking=4, limit=16):
+    m = guard_masks(profile)
+    return P.Configure(seq, profile.rows, len(m.xor), period, blanking, limit, m.xor, m.count)
+
+
+@pytest.fixture
+def bench():
+    return load_profile("bench-8x8")
+
+
+# ---- CRC ------------------------------------------------------------------------------------------
+def test_crc_check_value_and_vectors(lib):
+    # Check value from the CRC catalogue (CRC-16/IBM-3740: check = 0x29B1), also PROTOCOL.md section 1.
+    assert lib.rc_crc16(b"123456789", 9) == 0x29B1
+    for case in VECTORS["crc"]["extra"]:
+        data = bytes.fromhex(case["input"])
+        assert lib.rc_crc16(data, len(data)) == int(case["crc"], 16), case
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.binary(max_size=300))
+def test_crc_matches_binascii(lib, data):
+    # binascii.crc_hqx: CRC-CCITT polynomial 0x1021, MSB first, caller's initial value (Python docs).
+    assert lib.rc_crc16(data, len(data)) == binascii.crc_hqx(data, 0xFFFF)
+
+
+# ---- COBS -----------------------------------------------------------------------------------------
+def cobs_encode(lib, data: bytes) -> bytes:
+    out = ctypes.create_string_buffer(len(data) + len(data) // 254 + 2)
+    n = lib.rc_cobs_encode(data, len(data), out)
+    return out.raw[:n]
+
+
+def cobs_decode(lib, block: bytes, cap: int = 1024) -> bytes | None:
+    out = ctypes.create_string_buffer(cap)
+    n = lib.host_cobs_decode(block, len(block), out, cap)
+    return None if n < 0 else out.raw[:n]
+
+
+def test_cobs_vectors(lib):
+    for case in VECTORS["cobs"]:
+        dec, enc = bytes.fromhex(case["decoded"]), bytes.fromhex(case["encoded"])
+        assert cobs_encode(lib, dec) == enc, case["name"]
+        assert cobs_decode(lib, enc) == dec, case["name"]
+    for case in VECTORS["cobs_decode_only"]:
+        assert cobs_decode(lib, bytes.fromhex(case["encoded"])) == bytes.fromhex(case["decoded"]), case["name"]
+    for case in VECTORS["cobs_invalid"]:
+        assert cobs_decode(lib, bytes.fromhex(case["encoded"])) is None, case["name"]
+
+
+def test_cobs_paper_examples(lib):
+    # Worked cases of the encoding rule (Cheshire and Baker 1999, section 3: each code byte counts
+    # the bytes up to the next zero, plus one; 0xFF carries 254 bytes and no zero).
+    assert cobs_encode(lib, b"\x00") == b"\x01\x01"
+    assert cobs_encode(lib, b"\x11\x22\x00\x33") == b"\x03\x11\x22\x02\x33"
+    assert cobs_encode(lib, b"\x11\x00\x00\x00") == b"\x02\x11\x01\x01\x01"
+    run = bytes(range(1, 255))                        # 254 non-zero bytes
+    assert cobs_encode(lib, run)[:1] == b"\xff"
+    assert cobs_decode(lib, b"\xff" + run) == run      # the short form is accepted
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.binary(max_size=600))
+def test_cobs_round_trip_and_no_zero(lib, data):
+    enc = cobs_encode(lib, data)
+    assert b"\x00" not in enc
+    assert len(enc) <= len(data) + len(data) // 254 + 1     # the paper's bound
+    assert cobs_decode(lib, enc) == data
+
+
+def test_cobs_decoder_refuses_oversized(lib):
+    data = bytes(range(1, 101))
+    assert cobs_decode(lib, cobs_encode(lib, data), cap=99) is None
+    assert cobs_decode(lib, cobs_encode(lib, data), cap=100) == data
+
+
+# ---- message vectors ----------------------------------------------------------------------------
+def test_vector_bad_blocks_fresh_receiver(lib):
+    for case in VECTORS["bad_blocks"]:
+        rx = Rx(lib)
+        reply = rx.feed(bytes.fromhex(case["wire"]))
+        assert reply.hex() == case["reply"], case["name"]
+        dropped = lib.host_dropped()
+        if case["expect"] == "drop":
+            assert dropped == 1, case["name"]
+        elif case["expect"] == "ignore":
+            assert dropped == 0, case["name"]
+
+
+def vector(name: str) -> dict:
+    return next(v for v in VECTORS["messages"] if v["name"] == name)
+
+
+def test_vector_identity_configure_frame_ack(lib):
+    rx = Rx(lib)
+    # A fresh receiver answers IDENTIFY with the "identity from reset" vector, byte for byte.
+    ident = vector("identity from reset")
+    assert rx.feed(P.encode(P.Identify(ident["seq"]))).hex() == ident["wire"]
+    assert rx.feed(bytes.fromhex(vector("configure bench-8x8")["wire"])) == P.encode(P.Ack(1))
+    # The FRAME vector with seq 4660 is acknowledged with the "ack" vector.
+    assert rx.feed(bytes.fromhex(vector("frame 8x8 show-after")["wire"])).hex() == vector("ack")["wire"]
+    for name in ("show", "blank", "ping", "frame 8x8 all off, store only", "ping whose CRC holds a zero byte"):
+        v = vector(name)
+        assert rx.feed(bytes.fromhex(v["wire"])) == P.encode(P.Ack(v["seq"])), name
+    # The guard limit of the bench vector is 16: an all-zero frame lights all 16 columns of every row.
+    v = vector("frame 8x8 all zero bytes")
+    assert rx.feed(bytes.fromhex(v["wire"])) == P.encode(P.Ack(v["seq"]))
+
+
+def test_vector_maximum_frame_needs_16_rows(lib):
+    rx = Rx(lib)
+    v = vector("frame maximum 16x8")
+    cfg = P.Configure(1, 16, 8, 80, 4, 64, bytes(8), bytes(8))
+    assert rx.send(cfg) == [P.Ack(1)]
+    assert rx.feed(bytes.fromhex(v["wire"])) == P.encode(P.Ack(v["seq"]))
+    assert lib.host_dropped() == 0
+
+
+# ---- scan engine ---------------------------------------------------------------------------------
+def authored(seed: int, profile) -> np.ndarray:
+    return np.random.default_rng(seed).integers(0, 4, (profile.rows, profile.cols), dtype=np.uint8)
+
+
+def scans(latched: list[bytes], rows: int) -> list[list[bytes]]:
+    return [latched[i:i + rows] for i in range(0, len(latched) - rows + 1, rows)]
+
+
+def test_every_tick_blanks_latches_then_shifts(lib, bench):
+    rx = Rx(lib)
+    assert rx.send(configure_msg(bench, limit=16)) == [P.Ack(1)]
+    frame = shift_bytes(authored(1, bench), bench)
+    assert rx.send(P.Frame(2, frame.tobytes())) == [P.Ack(2)]
+    rx.events()
+    rx.tick(3)
+    kinds = [k for k, _ in rx.events()]
+    # CONFIGURE primed the last slot, so the first tick ends a scan: the shown frame is swapped in
+    # and the outputs switch on there; every tick is blank, latch, shift the next slot's 3 bytes,
+    # and the outputs come back on after the blanking time.
+    tick = [EV_BLANK, EV_LATCH, EV_SPI, EV_SPI, EV_SPI, EV_UNBLANK]
+    assert kinds == [EV_BLANK, EV_LATCH, EV_OUTPUTS, EV_SPI, EV_SPI, EV_SPI, EV_UNBLANK] + tick + tick
+    assert lib.host_kicks() == 3                   # the watchdog is fed once per row tick
+
+
+def test_frames_shown_exactly_and_swapped_only_between_scans(lib, bench):
+    rx = Rx(lib)
+    rx.send(configure_msg(bench, limit=16))
+    a, b = authored(2, bench), authored(3, bench)
+    rx.send(P.Frame(2, shift_bytes(a, bench).tobytes()))
+    rx.tick(8 * 3 + 3)                        # mid-scan
+    rx.send(P.Frame(3, shift_bytes(b, bench).tobytes()))
+    rx.tick(8 * 3)
+    latched = rx.latched(3)
+    # Align on slot 0 (the first latch after CONFIGURE is the primed idle slot 7).
+    slots = [bytes(s) for s in shift_bytes(a, bench)]
+    start = latched.index(slots[0])
+    seen = []
+    for scan in scans(latched[start:], 8):
+        shown, clean = frame_from_shift_bytes(np.frombuffer(b"".join(scan), np.uint8).reshape(8, 3), bench)
+        assert clean
+        seen.append(0 if np.array_equal(shown, a) else 1 if np.array_equal(shown, b) else -1)
+    assert -1 not in seen, "a scan mixed two frames or showed something never sent"
+    assert seen == sorted(seen) and seen[0] == 0 and seen[-1] == 1
+
+
+def test_guard_rejects_and_keeps_back_buffer(lib, bench):
+    rx = Rx(lib)
+    rx.send(configure_msg(bench, limit=5))
+    ok = np.zeros((8, 8), np.uint8)
+    ok[:, :5] = 1                                     # 5 red LEDs a row: at the limit
+    assert rx.send(P.Frame(2, shift_bytes(ok, bench).tobytes(), flags=0)) == [P.Ack(2)]
+    over = ok.copy()
+    over[3, 5] = 2                                    # row 3: 6 lit (5 red + 1 green)
+    over[6, :] = 3                                    # row 6: 16 lit
+    # Counted independently: lit LEDs per row = red dies on + green dies on (common practice).
+    lit = ((over & 1) != 0).sum(axis=1) + ((over & 2) != 0).sum(axis=1)
+    assert list(np.nonzero(lit > 5)[0]) == [3, 6]
+    assert rx.send(P.Frame(3, shift_bytes(over, bench).tobytes(), flags=0)) == [P.Reject(3, P.Reason.GUARD, 3)]
+    assert rx.send(P.Show(4)) == [P.Ack(4)]
+    rx.events()
+    rx.tick(8 * 3)
+    latched = rx.latched(3)
+    frames = {frame_from_shift_bytes(np.frombuffer(b"".join(s), np.uint8).reshape(8, 3), bench)[0].tobytes()
+              for s in scans(latched[latched.index(bytes(shift_bytes(ok, bench)[0])):], 8)}
+    assert frames == {ok.tobytes()}
+
+
+def test_duplicate_seq_is_acked_not_stored(lib, bench):
+    rx = Rx(lib)
+    rx.send(configure_msg(bench))
+    a, b = authored(4, bench), authored(5, bench)
+    rx.send(P.Frame(7, shift_bytes(a, bench).tobytes()))
+    assert rx.send(P.Frame(7, shift_bytes(b, bench).tobytes())) == [P.Ack(7)]
+    rx.events()
+    rx.tick(8 * 3)
+    assert bytes(shift_bytes(b, bench)[0]) not in rx.latched(3)
+
+
+def test_blank_and_show_drive_output_enable(lib, bench):
+    rx = Rx(lib)
+    assert lib.host_oe() == 0
+    rx.send(configure_msg(bench))
+    rx.tick(10)
+    assert lib.host_oe() == 0 and lib.host_state() == P_STATE_CONFIGURED
+    rx.send(P.Frame(2, shift_bytes(authored(6, bench), bench).tobytes()))
+    rx.tick(9)
+    assert lib.host_oe() == 1 and lib.host_state() == 3
+    assert rx.send(P.Blank(3)) == [P.Ack(3)]
+    assert lib.host_oe() == 0
+    rx.tick(9)
+    assert lib.host_oe() == 0
+    assert rx.send(P.Show(4)) == [P.Ack(4)]
+    rx.tick(9)
+    assert lib.host_oe() == 1
+
+
+P_STATE_CONFIGURED = 1
+
+
+@pytest.mark.parametrize("field,kwargs", [
+    (0, dict(rows=0)), (0, dict(rows=17)), (1, dict(bpr=0)), (1, dict(bpr=9)),
+    (2, dict(period=19)), (2, dict(period=4001)), (3, dict(blanking=80)), (4, dict(limit=0)),
+])
+def test_configure_fields_refused(lib, field, kwargs):
+    rx = Rx(lib)
+    bpr = kwargs.get("bpr", 3)
+    cfg = P.Configure(5, kwargs.get("rows", 8), bpr, kwargs.get("period", 80), kwargs.get("blanking", 4),
+                      kwargs.get("limit", 16), bytes(bpr), bytes(bpr))
+    assert rx.send(cfg) == [P.Reject(5, P.Reason.BAD_CONFIG, field)]
+    assert lib.host_state() == 0
+
+
+def test_frame_length_flags_and_not_configured(lib, bench):
+    rx = Rx(lib)
+    data = shift_bytes(authored(7, bench), bench).tobytes()
+    assert rx.send(P.Frame(1, data)) == [P.Reject(1, P.Reason.NOT_CONFIGURED, 0)]
+    assert rx.send(P.Show(2)) == [P.Reject(2, P.Reason.NOT_CONFIGURED, 0)]
+    rx.send(configure_msg(bench, seq=3))
+    assert rx.send(P.Frame(4, data[:-1])) == [P.Reject(4, P.Reason.BAD_LENGTH, 0)]
+    assert rx.send(P.Frame(5, data, flags=0x03)) == [P.Reject(5, P.Reason.BAD_FLAGS, 0x03)]
+
+
+def test_bad_crc_and_truncation_change_nothing(lib, bench):
+    rx = Rx(lib)
+    rx.send(configure_msg(bench))
+    a, b = authored(8, bench), authored(9, bench)
+    rx.send(P.Frame(2, shift_bytes(a, bench).tobytes()))
+    wire = bytearray(P.encode(P.Frame(3, shift_bytes(b, bench).tobytes())))
+    wire[10] ^= 0x01 if wire[10] != 0x01 else 0x03
+    assert rx.feed(bytes(wire)) == b""
+    assert rx.feed(P.encode(P.Frame(4, shift_bytes(b, bench).tobytes()))[:20] + b"\x00") == b""
+    assert rx.feed(P.encode(P.Show(5))) == P.encode(P.Ack(5))
+    assert lib.host_dropped() == 2
+    rx.events()
+    rx.tick(8 * 3)
+    assert bytes(shift_bytes(b, bench)[0]) not in rx.latched(3)
