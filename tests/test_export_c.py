@@ -24,9 +24,9 @@ from composer.errors import InputError
 from composer.model import Animation
 from composer.pattern_file import open_pattern, save_pattern
 from composer.profile import bundled_profiles, load_profile
-from composer.wiring import frame_from_shift_bytes, idle_bytes, shift_bytes
+from composer.wiring import decode_shift_bytes, frame_from_shift_bytes, idle_bytes, shift_bytes
 
-from conftest import need_tool
+from conftest import need, need_tool
 
 GCC_FLAGS = ["-std=c99", "-Wall", "-Wextra", "-Werror", "-pedantic", "-O1"]
 PROFILE_NAMES = sorted(bundled_profiles())
@@ -304,3 +304,85 @@ def test_cli_missing_folder_exit_2(tmp_path, capsys):
     err = capsys.readouterr().err
     assert "folder does not exist" in err and len(err.strip().splitlines()) == 1
 
+
+
+# -- a C export loaded into the receiver's host build -------------------------------------------------
+FIRMWARE = Path(__file__).resolve().parent.parent / "firmware_stub"
+
+
+def _host_receiver(tmp: Path):
+    """Build the receiver core with its recording host board (firmware_stub/Makefile, target host)."""
+    import ctypes
+    make = need_tool("make")
+    need_tool("gcc")
+    build = subprocess.run([make, "-s", "-C", str(FIRMWARE), "host", f"BUILD={tmp}"], capture_output=True, text=True)
+    assert build.returncode == 0, build.stderr[-3000:]
+    lib = ctypes.CDLL(str(tmp / "librc_host.so"))
+    lib.host_feed.argtypes = [ctypes.c_char_p, ctypes.c_uint32]
+    lib.host_events.argtypes = [ctypes.POINTER(ctypes.c_uint32), ctypes.c_uint32]
+    lib.host_events.restype = ctypes.c_uint32
+    return lib
+
+
+def _shown_frame(lib, profile, ticks: int) -> np.ndarray:
+    """Run row ticks and replay the recorded board calls on a model of the chain: SPI bytes shift in,
+    a latch copies the last BYTES_PER_ROW of them to the outputs, an unblank shows them. Returns what
+    the last full scan lit (each slot decoded by the wiring map)."""
+    import ctypes
+    HOST_EV_SPI, HOST_EV_LATCH, HOST_EV_UNBLANK = 1, 2, 4      # board/host/board_impl.h
+    for _ in range(ticks):
+        lib.host_tick()
+    buf = (ctypes.c_uint32 * 65536)()
+    n = lib.host_events(buf, 65536)
+    shifted: list[int] = []
+    latched: bytes | None = None
+    shown: list[bytes] = []
+    for word in buf[:n]:
+        kind, value = word >> 24, word & 0xFFFFFF
+        if kind == HOST_EV_SPI:
+            shifted.append(value)
+        elif kind == HOST_EV_LATCH:
+            latched = bytes(shifted[-profile.n_registers:])
+        elif kind == HOST_EV_UNBLANK and latched is not None:
+            shown.append(latched)
+    last = np.frombuffer(b"".join(shown[-profile.rows:]), np.uint8).reshape(profile.rows, profile.n_registers)
+    row_on, leds = decode_shift_bytes(last, profile)
+    assert (row_on.sum(axis=1) == 1).all(), "a row slot selects no row or several rows"
+    frame = np.zeros((profile.rows, profile.cols), np.uint8)
+    for slot in range(profile.rows):
+        frame[row_on[slot]] |= leds[slot]
+    return frame
+
+
+@pytest.mark.external
+@pytest.mark.parametrize("profile_name", ["bench-8x8", "cathode-8x8", "wide-16x8"])
+def test_c_export_in_the_receiver_host_build_lights_the_authored_leds(tmp_path, profile_name):
+    from transport import protocol as p
+    from composer.wiring import guard_masks
+    need(FIRMWARE.joinpath("Makefile").is_file(), "firmware_stub/Makefile is not there")
+    prof = load_profile(profile_name)
+    rng = np.random.default_rng(len(profile_name))
+    frames = rng.integers(0, 4, (4, prof.rows, prof.cols)).astype(np.uint8)
+    frames[0] = 0
+    frames[1] = 0
+    frames[1][0, 0], frames[1][prof.rows - 1, prof.cols - 1] = 1, 2     # two corners: orientation
+    anim = Animation(frames, [100] * 4, name="receiver check", profile=profile_name)
+    header = c_header(anim, prof, check_report(anim, prof), progmem=True)
+    (tmp_path / "c").mkdir()
+    (tmp_path / "fw").mkdir()
+    table = compile_and_print(tmp_path / "c", [(header, anim.name, "shift", None)])[0]["data"]
+    table = table.astype(np.uint8).reshape(anim.n_frames, prof.rows * prof.n_registers)
+
+    lib = _host_receiver(tmp_path / "fw")
+    lib.host_reset()
+    masks = guard_masks(prof)
+    lit_max = 2 * prof.cols                     # the receiver's own guard lets every LED of a row light
+    cfg = p.Configure(1, prof.rows, prof.n_registers, int(round(prof.scan.row_period_us)),
+                      int(round(prof.scan.blanking_us)), lit_max, masks.xor, masks.count)
+    wire = p.encode(cfg)
+    lib.host_feed(wire, len(wire))
+    for f in range(anim.n_frames):
+        wire = p.encode(p.Frame(2 + f, bytes(table[f]), p.SHOW_AFTER))
+        lib.host_feed(wire, len(wire))
+        shown = _shown_frame(lib, prof, ticks=3 * prof.rows)
+        assert np.array_equal(shown, anim.frames[f]), f"frame {f}"

@@ -95,10 +95,12 @@ class CSummary:
 
 def _summary(report: Any) -> CSummary:
     frame_ok = np.asarray(report.frame_ok, bool).reshape(-1)
-    texts = tuple(_comment_safe(str(v)) for v in list(report.violations)[:5])
-    return CSummary(float(np.max(report.worst_row_ma)), float(np.max(report.supply_peak_ma)),
-                    float(np.max(report.supply_avg_ma)), float(report.timing.refresh_hz),
-                    tuple(int(i) for i in np.flatnonzero(~frame_ok)), texts)
+    durations = np.asarray(report.durations_ms, float)
+    # the average over the whole animation weights each frame by how long it is shown
+    avg = float((np.asarray(report.supply_avg_ma, float) * durations).sum() / durations.sum())
+    texts = tuple(_comment_safe(str(v)) for v in list(report.violations)[:6])
+    return CSummary(float(np.max(report.worst_row_ma)), float(np.max(report.supply_peak_ma)), avg,
+                    float(report.timing.refresh_hz), tuple(int(i) for i in np.flatnonzero(~frame_ok)), texts)
 
 
 def _comment_safe(text: str) -> str:
@@ -150,14 +152,16 @@ def c_header(anim: Animation, profile: Profile, report: Any, *, layout: str = "s
     add(f" * Profile: {_comment_safe(profile.name)} - {_comment_safe(profile.description)}")
     add(f" * Panel: common {profile.panel.common}, {profile.n_registers} shift registers in the chain.")
     add(" *")
-    add(" * Electrical check on this profile (typical parts):")
+    add(f" * Electrical check on this profile ({_comment_safe(str(getattr(report, 'corner', 'typ')))} corner):")
     add(f" *   worst row current   {s.worst_row_ma:8.1f} mA")
     add(f" *   supply peak         {s.supply_peak_ma:8.1f} mA (budget {profile.supply.budget_ma:g} mA)")
-    add(f" *   supply average      {s.supply_avg_ma:8.1f} mA")
+    add(f" *   supply average      {s.supply_avg_ma:8.1f} mA (weighted by frame durations)")
     add(f" *   refresh             {s.refresh_hz:8.1f} Hz (row slot {profile.scan.row_period_us:g} us)")
     if s.frames_over:
         shown = ", ".join(str(i) for i in s.frames_over[:12]) + (" ..." if len(s.frames_over) > 12 else "")
         add(f" *   OVER A LIMIT in {len(s.frames_over)} frame(s): {shown}")
+    if s.first_violations:
+        add(" *   violations (first few; rowcast check lists them all):")
         for text in s.first_violations:
             add(f" *     - {text}")
     else:

@@ -25,11 +25,12 @@ from ..errors import InputError
 from ..model import AMBER, GREEN, MAX_FRAMES, RED, Animation
 from ..profile import Profile
 
-__all__ = ["DEFAULT_STEP_MS", "DEFAULT_WALK_MS", "CORNERS_MS", "Step", "candidate_steps", "bringup_animation"]
+__all__ = ["DEFAULT_STEP_MS", "DEFAULT_WALK_MS", "CORNERS_MS", "CHECK_CORNER", "Step", "candidate_steps", "bringup_animation"]
 
 DEFAULT_STEP_MS = 400     # rows and columns: slow enough to follow, under 3 changes a second
 DEFAULT_WALK_MS = 150     # one LED at a time
 CORNERS_MS = 2000
+CHECK_CORNER = "stress"   # the engine's corner with the highest currents (top supply, lowest forward voltage)
 _COLOUR_NAME = {RED: "red", GREEN: "green", AMBER: "amber"}
 
 
@@ -85,7 +86,7 @@ def _check(steps: list[Step], profile: Profile):
     from ..electrical import analyse   # the engine; imported here so this module stays light
     frames = np.stack([s.frame for s in steps])
     durations = np.array([s.ms for s in steps])
-    return analyse(frames, durations, profile)
+    return analyse(frames, durations, profile, corner=CHECK_CORNER)
 
 
 def bringup_animation(profile: Profile, *, step_ms: int = DEFAULT_STEP_MS, walk_ms: int = DEFAULT_WALK_MS,
@@ -95,25 +96,30 @@ def bringup_animation(profile: Profile, *, step_ms: int = DEFAULT_STEP_MS, walk_
     for _ in range(12):           # each round halves the failing steps; 2**12 LEDs is beyond any row
         report = _check(steps, profile)
         ok = np.asarray(report.frame_ok, bool).reshape(-1)
+        whole = [v for v in report.violations if v.frame is None]
+        if whole:        # an animation-wide limit (flashing): slower steps are the cure, not smaller ones
+            raise InputError(f"profile {profile.name}: the wiring test breaks a limit as a whole ({whole[0]}); "
+                             "try longer --ms / --walk-ms")
         if ok.all():
             break
         new: list[Step] = []
-        for step, good in zip(steps, ok):
+        for i, (step, good) in enumerate(zip(steps, ok)):
             if good:
                 new.append(step)
                 continue
             parts = _split(step)
             if not parts:
-                first = next((str(v) for v in report.violations), "a limit")
-                raise InputError(f"profile {profile.name}: even a single LED ({step.label}) is over a limit, "
-                                 f"so no wiring test is safe: {first}")
+                first = next((str(v) for v in report.violations if v.frame == i), "a limit")
+                raise InputError(f"profile {profile.name}: even a single LED ({step.label}) is over a limit at the "
+                                 f"{CHECK_CORNER} corner, so no wiring test is safe ({first}); choose resistors "
+                                 "with rowcast design")
             new.extend(parts)
         steps = new
         if len(steps) > MAX_FRAMES:
             raise InputError(f"profile {profile.name}: the wiring test would need over {MAX_FRAMES} frames")
     else:
         raise InputError(f"profile {profile.name}: could not split the wiring test within the limits")
-    notes = [f"wiring test for {profile.name} ({rows}x{cols}); every frame checked against the profile's limits"]
+    notes = [f"wiring test for {profile.name} ({rows}x{cols}); every frame checked against the profile's limits at the {CHECK_CORNER} corner"]
     for section in ("corners", "rows", "columns", "walk"):
         idx = [i for i, s in enumerate(steps) if s.section == section]
         if idx:
