@@ -11,6 +11,7 @@ retransmits, sends the newest live frame, reconnects). ``on_event`` may be calle
 """
 from __future__ import annotations
 
+import re
 import threading
 import time
 from collections import OrderedDict
@@ -20,7 +21,7 @@ from typing import Any, Callable, Iterable
 import numpy as np
 import serial
 
-from composer.errors import LinkError
+from composer.errors import InputError, LinkError
 from composer.model import Animation
 from composer.profile import Profile
 from composer.wiring import guard_masks, shift_bytes
@@ -29,7 +30,7 @@ from . import protocol as p
 from .receiver import line_time_s
 
 __all__ = ["Link", "LinkEvent", "SendResult", "PlayReport", "LinkStats", "EVENT_KINDS", "Window",
-           "Pending", "open_port", "guard_frame", "list_ports", "register_url_handler"]
+           "Pending", "open_port", "guard_frame", "list_ports", "register_url_handler", "reasons_of"]
 
 EVENT_KINDS = frozenset({"connected", "acked", "rejected", "blocked", "lost", "reconnecting", "reconnected",
                          "closed", "error"})
@@ -92,6 +93,11 @@ def guard_frame(frame: np.ndarray, profile: Profile):
     return _electrical().guard(frame, profile)
 
 
+def reasons_of(verdict) -> tuple[str, ...]:
+    """One line per reason a verdict gives (see :func:`_reasons`)."""
+    return _reasons(verdict)
+
+
 class _GuardCache:
     """The verdict is a pure function of (frame, profile); an animation repeats frames, so verdicts
     are kept by frame content (bounded)."""
@@ -116,8 +122,13 @@ class _GuardCache:
         return verdict
 
 
+_FRAME_PREFIX = re.compile(r"^frame \d+: ")
+
+
 def _reasons(verdict) -> tuple[str, ...]:
-    return tuple(str(r) for r in (getattr(verdict, "reasons", ()) or ()))
+    """The verdict's reasons; the engine numbers frames within what it was given, which for one frame is
+    always "frame 0", so that prefix is dropped here (the caller knows which frame it sent)."""
+    return tuple(_FRAME_PREFIX.sub("", str(r)) for r in (getattr(verdict, "reasons", ()) or ()))
 
 
 # -------------------------------------------------------------------------------------------------
@@ -283,6 +294,8 @@ class Link:
         self._window = Window(window, ack_timeout, retries)
         self._guard = _GuardCache(profile)
         self._masks = guard_masks(profile)
+        self._xor = np.frombuffer(self._masks.xor, np.uint8)
+        self._count = np.frombuffer(self._masks.count, np.uint8)
         self._limit = int(_electrical().firmware_lit_limit(profile))
         self.stats = LinkStats()
         self.decoder = p.StreamDecoder()
@@ -317,6 +330,10 @@ class Link:
         """Open the port, identify and configure the receiver. Raises LinkError (exit status 3)."""
         if self._thread is not None:
             return self
+        if self._limit < 1:
+            raise InputError(f"profile {self.profile.name}: at the stress corner not even one lit LED per row stays "
+                             "within the limits, so there is nothing the receiver's guard could let through "
+                             "(rowcast check shows which limit)")
         self._closing = False
         port = self._opener(self.url, self.baud)
         try:
@@ -356,8 +373,9 @@ class Link:
         self.close()
 
     def check(self, frame: np.ndarray):
-        """The guard's verdict on ``frame`` for this link's profile (nothing is sent)."""
-        return self._guard(self._as_frame(frame))
+        """The verdict :meth:`send_frame` would act on for ``frame`` (nothing is sent): the engine's
+        guard, then the receiver's own per-row count."""
+        return self._gate(self._as_frame(frame), emit=False)[0]
 
     def send_frame(self, frame: np.ndarray, *, timeout: float | None = None) -> SendResult:
         """Guard, then send and wait for the receiver's answer (retries included)."""
@@ -371,10 +389,8 @@ class Link:
         """Guard, then hand the frame to the service thread, replacing any frame not yet sent (the
         newest wins; nothing queues up). Returns the verdict at once; answers come as events."""
         frame = self._as_frame(frame)
-        verdict = self._guard(frame)
-        if not verdict.ok:
-            self._emit("blocked", "frame blocked by the guard: " + "; ".join(_reasons(verdict)),
-                       reasons=_reasons(verdict))
+        verdict, data = self._gate(frame)
+        if data is None:
             return verdict
         with self._cv:
             self._live = (frame.copy(), verdict)
@@ -452,6 +468,27 @@ class Link:
                              f"{self.profile.rows}x{self.profile.cols}")
         return frame
 
+    def _gate(self, frame: np.ndarray, *, emit: bool = True) -> tuple[Any, bytes | None]:
+        """The guard's verdict, and the frame's slot bytes when it may be sent (None when blocked).
+
+        A frame the engine passes is also held to the receiver's own coarse count (the limit sent in
+        CONFIGURE): the receiver would refuse it anyway, and saying so here names the row."""
+        verdict = self._guard(frame)
+        if verdict.ok:
+            slots = shift_bytes(frame, self.profile)
+            lit = np.unpackbits((slots ^ self._xor) & self._count, axis=-1).sum(axis=-1)
+            over = np.nonzero(lit > self._limit)[0]
+            if not over.size:
+                return verdict, slots.tobytes()
+            r = int(over[0])
+            why = (f"row slot {r} has {int(lit[r])} lit LEDs; the receiver's own guard for profile "
+                   f"{self.profile.name} allows {self._limit} per row")
+            verdict = type(verdict)(False, (why,), tuple(getattr(verdict, "violations", ())))
+        if emit:
+            self._emit("blocked", "frame blocked by the guard: " + "; ".join(_reasons(verdict)),
+                       reasons=_reasons(verdict))
+        return verdict, None
+
     def _next_seq(self) -> int:
         seq, self._seq = self._seq, (self._seq + 1) & 0xFFFF
         return seq
@@ -459,12 +496,9 @@ class Link:
     def _submit_frame(self, frame: np.ndarray, *, wait_room: bool, timeout: float | None,
                       on_done: Callable[[Pending], None] | None = None) -> Pending | SendResult:
         frame = self._as_frame(frame)
-        verdict = self._guard(frame)                      # the last gate, before any encoding
-        if not verdict.ok:
-            reasons = _reasons(verdict)
-            self._emit("blocked", "frame blocked by the guard: " + "; ".join(reasons), reasons=reasons)
-            return SendResult(False, verdict, False, "blocked by the guard: " + "; ".join(reasons))
-        data = shift_bytes(frame, self.profile).tobytes()
+        verdict, data = self._gate(frame)                 # the last gate, before any encoding
+        if data is None:
+            return SendResult(False, verdict, False, "blocked by the guard: " + "; ".join(_reasons(verdict)))
         deadline = None if timeout is None else time.monotonic() + timeout
         with self._cv:
             # Wait for room in the window while connected; a link that is down answers at once.
@@ -688,8 +722,10 @@ class Link:
 
     def _restore_display(self) -> None:
         if self._last_shown is not None and self._live is None:
-            with self._cv:
-                self._live = (self._last_shown, self._guard(self._last_shown))
+            verdict, data = self._gate(self._last_shown, emit=False)
+            if data is not None:
+                with self._cv:
+                    self._live = (self._last_shown, verdict)
 
     # -- handshake (runs with exclusive use of the port) -----------------------------------------
     def _request(self, port, msg: p.Message, want: type, tries: int = 3) -> p.Message:

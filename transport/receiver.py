@@ -30,7 +30,7 @@ from composer.wiring import frame_from_shift_bytes
 from . import protocol as p
 
 __all__ = ["SimulatedReceiver", "ReceiverCounts", "serve_fd", "MAX_ROWS", "MAX_BYTES_PER_ROW",
-           "MIN_ROW_PERIOD_US", "line_time_s"]
+           "MIN_ROW_PERIOD_US", "MAX_ROW_PERIOD_US", "line_time_s"]
 
 # Capacity of the ATmega328P-class build (PROTOCOL.md section 6).
 MAX_ROWS = 16
@@ -38,6 +38,8 @@ MAX_BYTES_PER_ROW = 8
 # The shortest row period the simulated receiver takes: shifting 8 bytes at 8 MHz takes 8 us, and
 # the row needs some on-time after it (common practice; the firmware states its own minimum).
 MIN_ROW_PERIOD_US = 20
+# The longest: a watchdog kicked once per row must not time out (the firmware's figure).
+MAX_ROW_PERIOD_US = 4000
 FRAME_SLOTS = 2
 
 
@@ -157,7 +159,7 @@ class SimulatedReceiver:
 
     def _configure(self, msg: p.Configure) -> p.Message:
         checks = (1 <= msg.rows <= self.max_rows, 1 <= msg.bytes_per_row <= self.max_bytes_per_row,
-                  msg.row_period_us >= MIN_ROW_PERIOD_US, msg.blanking_us < msg.row_period_us,
+                  MIN_ROW_PERIOD_US <= msg.row_period_us <= MAX_ROW_PERIOD_US, msg.blanking_us < msg.row_period_us,
                   msg.max_lit_per_row >= 1)
         for index, ok in enumerate(checks):
             if not ok:
@@ -180,10 +182,10 @@ class SimulatedReceiver:
 
     def _frame(self, msg: p.Frame) -> p.Message:
         cfg = self.config
-        if msg.flags & ~p.SHOW_AFTER:
-            return self._reject(msg.seq, p.Reason.BAD_FLAGS, msg.flags)
         if len(msg.data) != cfg.rows * cfg.bytes_per_row:
             return self._reject(msg.seq, p.Reason.BAD_LENGTH, 0)
+        if msg.flags & ~p.SHOW_AFTER:
+            return self._reject(msg.seq, p.Reason.BAD_FLAGS, msg.flags)
         if msg.seq == self.last_frame_seq:          # a retry after a lost ACK: answer, do not store again
             self.counts.duplicates += 1
             return p.Ack(msg.seq)

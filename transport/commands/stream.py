@@ -14,7 +14,7 @@ import threading
 from composer.errors import EXIT_LINK, EXIT_OK, EXIT_VIOLATION, InputError
 from composer.pattern_file import open_pattern
 
-from ..link import Link, LinkEvent, SendResult, guard_frame
+from ..link import Link, LinkEvent, SendResult, reasons_of
 
 __all__ = ["configure", "run"]
 
@@ -38,23 +38,20 @@ def run(args: argparse.Namespace) -> int:
     if not 1 <= args.window <= 64:
         raise InputError(f"--window {args.window}: must be 1..64")
     anim, profile = open_pattern(args.pattern, args.profile)
+    link = Link(args.port, profile, baud=args.baud, on_event=_print_event, window=args.window)
 
     blocked = []
     for i, frame in enumerate(anim.frames):
-        verdict = guard_frame(frame, profile)
+        verdict = link.check(frame)             # the same two gates every sent frame passes
         if not verdict.ok:
             blocked.append((i, verdict))
     if blocked:
         for i, verdict in blocked:
-            print(f"{args.pattern}: frame {i + 1}: blocked by the guard: {'; '.join(map(str, verdict.reasons))}",
+            print(f"{args.pattern}: frame {i + 1}: blocked by the guard: {'; '.join(reasons_of(verdict))}",
                   file=sys.stderr)
         print(f"{args.pattern}: {len(blocked)} of {anim.n_frames} frames over a limit for profile {profile.name}; "
               "nothing sent (rowcast check shows the currents)", file=sys.stderr)
         return EXIT_VIOLATION
-
-    def on_event(ev: LinkEvent) -> None:
-        if ev.kind in ("connected", "lost", "reconnecting", "reconnected", "error"):
-            print(f"link: {ev.message}", file=sys.stderr, flush=True)
 
     n = anim.n_frames
 
@@ -70,7 +67,6 @@ def run(args: argparse.Namespace) -> int:
         print(f"frame {index + 1}/{n} {anim.durations_ms[index]} ms: {status}", flush=True)
 
     stop = threading.Event()
-    link = Link(args.port, profile, baud=args.baud, on_event=on_event, window=args.window)
     link.open()
     try:
         report = link.play(anim, loop=args.loop, stop_event=stop, progress=progress)
@@ -86,3 +82,8 @@ def run(args: argparse.Namespace) -> int:
     if report.rejected or report.blocked:
         return EXIT_VIOLATION
     return EXIT_OK if report.acked == report.frames else EXIT_LINK
+
+
+def _print_event(ev: LinkEvent) -> None:
+    if ev.kind in ("connected", "lost", "reconnecting", "reconnected", "error"):
+        print(f"link: {ev.message}", file=sys.stderr, flush=True)
