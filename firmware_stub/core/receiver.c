@@ -41,7 +41,8 @@ static void reply(uint8_t type, uint16_t seq, const uint8_t *body, uint8_t n)
     raw[1] = type;
     raw[2] = (uint8_t)seq;
     raw[3] = (uint8_t)(seq >> 8);
-    memcpy(raw + RC_HEADER_LEN, body, n);
+    if (n)
+        memcpy(raw + RC_HEADER_LEN, body, n);   /* memcpy from a null body is undefined even for 0 bytes */
     uint8_t len = (uint8_t)(RC_HEADER_LEN + n);
     uint16_t crc = rc_crc16(raw, len);
     raw[len++] = (uint8_t)(crc >> 8);       /* high byte first: PROTOCOL.md section 1 */
@@ -155,6 +156,21 @@ static uint8_t guard(const uint8_t *data)
             return r;
     }
     return 0xFF;
+}
+
+/* For the host tests and the fuzz target (unused, and dropped by the linker, on the board): both
+ * buffers hold only what the guard accepted, and the scan state is in range. */
+uint8_t rc_invariants_hold(void)
+{
+    if (!rc.configured)
+        return 1;
+    if (rc_scan.rows < 1 || rc_scan.rows > RC_MAX_ROWS || rc_scan.bpr < 1 || rc_scan.bpr > RC_MAX_BYTES_PER_ROW)
+        return 0;
+    if (rc_scan.slot >= rc_scan.rows || rc_scan.front == rc_scan.back)
+        return 0;
+    if ((rc_scan.front != rc.buf_a && rc_scan.front != rc.buf_b) || (rc_scan.back != rc.buf_a && rc_scan.back != rc.buf_b))
+        return 0;
+    return guard(rc_scan.front) == 0xFF && guard(rc_scan.back) == 0xFF;
 }
 
 static void show(void)

@@ -40,5 +40,7 @@ void rc_idle(void);
 /* Counters for tests and IDENTITY. */
 uint16_t rc_rx_dropped(void);
 uint8_t rc_state_bits(void);
+/* Test hook: 1 when both buffers pass the guard and the scan state is in range. */
+uint8_t rc_invariants_hold(void);
 
 #endif
