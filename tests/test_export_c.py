@@ -181,7 +181,8 @@ def test_header_included_twice_and_from_two_files(tmp_path, bench_profile):
     (tmp_path / "t.h").write_text(c_header(anim, bench_profile, check_report(anim, bench_profile)))
     (tmp_path / "a.c").write_text('#include "t.h"\n#include "t.h"\nint a(void) { return twice_shift[1][7][2]; }\n')
     (tmp_path / "b.c").write_text('#include "t.h"\nint a(void);\n'
-                                  "int main(void) { return a() + twice_shift[0][0][2] - 0x01 + twice_shift[0][0][0] - 0xFF; }\n")
+                                  "int main(void) { return a() + twice_shift[0][0][2] - 0x01\n"
+                                  "    + twice_shift[0][0][0] - 0xFF; }\n")
     build = subprocess.run([gcc, *GCC_FLAGS, "-o", str(tmp_path / "t"), str(tmp_path / "a.c"),
                             str(tmp_path / "b.c")], capture_output=True, text=True)
     assert build.returncode == 0, build.stderr
@@ -386,3 +387,15 @@ def test_c_export_in_the_receiver_host_build_lights_the_authored_leds(tmp_path, 
         lib.host_feed(wire, len(wire))
         shown = _shown_frame(lib, prof, ticks=3 * prof.rows)
         assert np.array_equal(shown, anim.frames[f]), f"frame {f}"
+
+
+def test_cli_export_of_an_over_limit_pattern_writes_and_exits_1(tmp_path, capsys):
+    from composer.bundled import PATTERNS_DIR
+    out = tmp_path / "o.h"
+    status = run_cli(["export", str(PATTERNS_DIR / "overload-sweep.rowcast.toml"), "--c", str(out)])
+    anim, profile = open_pattern(PATTERNS_DIR / "overload-sweep.rowcast.toml")
+    report = check_report(anim, profile)
+    assert report.violations, "the demo is meant to break a limit"
+    assert status == 1 and out.exists()
+    assert str(report.violations[0]) in out.read_text().replace("\n *     - ", "\n")
+    assert "over a limit" in capsys.readouterr().err

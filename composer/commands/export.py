@@ -54,7 +54,8 @@ def run(args: argparse.Namespace) -> int:
     anim, profile = open_pattern(args.pattern, args.profile)
 
     # Render everything first, then write: a failure while rendering leaves no file behind.
-    report = check_report(anim, profile) if (args.c_out or args.json_out) else None
+    # The check runs for previews too: a preview of flashing content flashes on a screen as well.
+    report = check_report(anim, profile)
     blobs: dict[str, bytes] = {}
     if args.c_out:
         blobs["--c"] = c_header(anim, profile, report, layout=args.layout, prefix=args.prefix,
@@ -68,12 +69,11 @@ def run(args: argparse.Namespace) -> int:
     for opt, data in blobs.items():
         atomic_write_bytes(wanted[opt], data)
         print(f"wrote {wanted[opt]} ({len(data)} bytes)")
-    if report is not None:
+    if list(report.violations):
         ok = np.asarray(report.frame_ok, bool).reshape(-1)
-        if not ok.all():
-            bad = np.flatnonzero(~ok)
-            sys.stderr.write(f"rowcast export: {bad.size} frame(s) over a limit of profile {profile.name} "
-                             f"(first: frame {int(bad[0])}); run rowcast check {args.pattern}\n")
-            return EXIT_VIOLATION
+        where = f"{int((~ok).sum())} frame(s) are" if not ok.all() else "the animation as a whole is"
+        sys.stderr.write(f"rowcast export: files written, but {where} over a limit of profile {profile.name} "
+                         f"({report.violations[0]}); see rowcast check {args.pattern}\n")
+        return EXIT_VIOLATION
     return EXIT_OK
 

@@ -119,8 +119,11 @@ def bitmap_rows(frames: np.ndarray) -> np.ndarray:
     return np.packbits(planes, axis=-1, bitorder="big")
 
 
+_HEX = tuple(f"0x{i:02X}" for i in range(256))
+
+
 def _fmt_bytes(values: np.ndarray) -> str:
-    return ", ".join(f"0x{int(v):02X}" for v in values)
+    return ", ".join(map(_HEX.__getitem__, np.asarray(values).tolist()))
 
 
 def _duration_type(durations: np.ndarray) -> tuple[str, str]:

@@ -21,7 +21,8 @@ from ..errors import InputError
 from ..model import Animation
 
 __all__ = ["COLOURS_RGB", "OFF_RGB", "BOARD_RGB", "LEVELS", "MIN_SCALE", "MAX_SCALE", "DEFAULT_SCALE",
-           "MAX_PIXELS", "GIF_MAX_CS", "check_scale", "gif_delays_ms", "frame_image", "gif_bytes", "png_sheet_bytes", "sheet_layout"]
+           "MAX_PIXELS", "GIF_MAX_CS", "check_scale", "gif_delays_ms", "frame_image", "gif_bytes",
+           "png_sheet_bytes", "sheet_layout"]
 
 BOARD_RGB = (12, 12, 12)
 OFF_RGB = (46, 40, 36)                       # a dim dot: the LED is there but dark

@@ -25,7 +25,8 @@ from ..errors import InputError
 from ..model import AMBER, GREEN, MAX_FRAMES, RED, Animation
 from ..profile import Profile
 
-__all__ = ["DEFAULT_STEP_MS", "DEFAULT_WALK_MS", "CORNERS_MS", "CHECK_CORNER", "Step", "candidate_steps", "bringup_animation"]
+__all__ = ["DEFAULT_STEP_MS", "DEFAULT_WALK_MS", "CORNERS_MS", "CHECK_CORNER", "Step", "candidate_steps",
+           "bringup_animation"]
 
 DEFAULT_STEP_MS = 400     # rows and columns: slow enough to follow, under 3 changes a second
 DEFAULT_WALK_MS = 150     # one LED at a time
@@ -119,7 +120,8 @@ def bringup_animation(profile: Profile, *, step_ms: int = DEFAULT_STEP_MS, walk_
             raise InputError(f"profile {profile.name}: the wiring test would need over {MAX_FRAMES} frames")
     else:
         raise InputError(f"profile {profile.name}: could not split the wiring test within the limits")
-    notes = [f"wiring test for {profile.name} ({rows}x{cols}); every frame checked against the profile's limits at the {CHECK_CORNER} corner"]
+    notes = [f"wiring test for {profile.name} ({rows}x{cols}); every frame checked against the profile's limits "
+             f"at the {CHECK_CORNER} corner"]
     for section in ("corners", "rows", "columns", "walk"):
         idx = [i for i, s in enumerate(steps) if s.section == section]
         if idx:
