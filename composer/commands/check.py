@@ -1,0 +1,110 @@
+"""``rowcast check PATTERN``: every frame's currents, what is over a limit, timing, flicker, flash.
+
+Exit status 1 when anything is over a limit (see ``composer.electrical.limits.RULES``).
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+
+import numpy as np
+
+from ..electrical import CORNERS, Report, analyse
+from ..errors import EXIT_OK, EXIT_VIOLATION
+from ..pattern_file import open_pattern
+
+__all__ = ["configure", "run", "render_text", "corner_ranges"]
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.rowcast.toml)")
+    parser.add_argument("--profile", metavar="NAME|PATH", help="hardware profile (default: the one the "
+                        "pattern names)")
+    parser.add_argument("--corner", choices=CORNERS, default="stress",
+                        help="stress (default): highest supply, lowest forward voltage, resistors at minus "
+                        "tolerance; typ: nominal values; bright: the dim worst case")
+    parser.add_argument("--json", action="store_true", help="print the report as JSON (documented keys)")
+
+
+def corner_ranges(anim, profile) -> dict[str, dict[str, list[float | None]]]:
+    """LED current range per colour at every corner (the brightness picture beside the limits)."""
+    out = {}
+    for corner in CORNERS:
+        rep = analyse(anim.frames, anim.durations_ms, profile, corner=corner)
+        out[corner] = rep.to_json()["summary"]["led_ma_range"]
+    return out
+
+
+def run(args: argparse.Namespace) -> int:
+    anim, profile = open_pattern(args.pattern, args.profile)
+    report = analyse(anim.frames, anim.durations_ms, profile, corner=args.corner)
+    ranges = corner_ranges(anim, profile)
+    if args.json:
+        doc = report.to_json()
+        doc["summary"]["pattern"] = str(args.pattern)
+        doc["summary"]["corners"] = ranges
+        json.dump(doc, sys.stdout, indent=1)
+        sys.stdout.write("\n")
+    else:
+        sys.stdout.write(render_text(report, str(args.pattern), ranges))
+    return EXIT_OK if report.ok else EXIT_VIOLATION
+
+
+def _ma(x: float) -> str:
+    return "-" if not np.isfinite(x) else f"{x:.1f}"
+
+
+def render_text(report: Report, pattern: str, ranges: dict | None = None) -> str:
+    t = report.timing
+    lines = [f"check {pattern} on {report.profile}, {report.corner} corner: {report.n_frames} frames",
+             "",
+             f"{'frame':>5} {'ms':>6} {'row':>4} {'row mA':>7} {'pin mA':>7} {'pkg mA':>7} {'supply mA':>9}  verdict"]
+    over: dict[int, list[str]] = {}
+    for v in report.violations:
+        if v.frame is not None and v.rule not in over.setdefault(v.frame, []):
+            over[v.frame].append(v.rule)
+    for i in range(report.n_frames):
+        verdict = "ok" if report.frame_ok[i] else "OVER: " + ", ".join(over.get(i, []))
+        lines.append(f"{i:>5} {int(report.durations_ms[i]):>6} {int(report.worst_row[i]):>4} "
+                     f"{_ma(report.worst_row_ma[i]):>7} {_ma(report.pin_ma_max[i]):>7} "
+                     f"{_ma(report.package_ma_max[i]):>7} {_ma(report.supply_peak_ma[i]):>9}  {verdict}")
+    lines.append("")
+    if report.violations:
+        lines.append(f"{len(report.violations)} violation(s):")
+        lines.append(f"  {'frame':>5}  {'rule':<20} {'where':<44} {'measured':>10} {'limit':>10} unit")
+        for v in report.violations:
+            frame = "-" if v.frame is None else str(v.frame)
+            lines.append(f"  {frame:>5}  {v.rule:<20} {v.where:<44} {v.measured:>10.4g} {v.limit:>10.4g} {v.unit}")
+        counts = ", ".join(f"{rule} {n}" for rule, n in report.frames_over().items())
+        if counts:
+            lines.append(f"frames over each limit: {counts}; worst frame {report.worst_frame}")
+    else:
+        lines.append(f"no violations; worst frame {report.worst_frame} uses "
+                     f"{100 * float(report.utilisation.max()):.0f} % of its tightest limit")
+    lines.append("")
+    weights = report.durations_ms / report.durations_ms.sum()
+    lines.append(f"supply: peak {report.supply_peak_ma.max():.1f} mA, average {(report.supply_avg_ma * weights).sum():.1f}"
+                 f" mA; row limit {report.row_limit_ma:.0f} mA; driver junction up to {report.driver_tj_c.max():.1f} C")
+    if ranges:
+        parts = []
+        for corner, rng in ranges.items():
+            parts.append(corner + " " + " ".join(
+                f"{c} {_ma(lo if lo is not None else np.nan)}-{_ma(hi if hi is not None else np.nan)}"
+                for c, (lo, hi) in rng.items()))
+        lines.append("LED mA by corner: " + "; ".join(parts))
+    stuck = np.flatnonzero(report.stuck_scan)
+    if stuck.size:
+        parts = ", ".join(f"{k} {int(m.sum())}" for k, m in report.stuck_parts.items() if m.any())
+        lines.append(f"stuck scan: if the scan stops on one row, {stuck.size} frame(s) would overload a part at "
+                     f"100 % duty ({parts}); first {stuck[:8].tolist()}")
+    else:
+        lines.append("stuck scan: no frame overloads a part even with one row latched on at 100 % duty")
+    lines.append(f"timing: refresh {t.refresh_hz:.1f} Hz, duty {100 * t.duty:.2f} %, effective duty "
+                 f"{100 * t.effective_duty:.2f} % (blanking), shifting {t.shift_us:.1f} us of a {t.row_period_us:g} us slot")
+    lines.append(f"flicker: {t.flicker_text}")
+    if report.flash is not None:
+        lines.append(f"flash: {report.flash.message}")
+    lines.append("verdict: " + ("OK, every frame inside every limit" if report.ok else
+                                "OVER A LIMIT (exit status 1); check the parts' datasheets before powering"))
+    return "\n".join(lines) + "\n"

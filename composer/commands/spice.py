@@ -1,0 +1,44 @@
+"""``rowcast spice PATTERN --frame N [--row R] [-o FILE]``: a SPICE netlist of one row's circuit."""
+from __future__ import annotations
+
+import argparse
+import sys
+
+from ..atomic import atomic_write_text
+from ..electrical import CORNERS, analyse
+from ..electrical.spice import row_netlist
+from ..errors import EXIT_OK, InputError
+from ..pattern_file import open_pattern
+
+__all__ = ["configure", "run"]
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.rowcast.toml)")
+    parser.add_argument("--frame", type=int, required=True, metavar="N", help="frame index (from 0)")
+    parser.add_argument("--row", type=int, metavar="R", help="row (default: the frame's worst row)")
+    parser.add_argument("--profile", metavar="NAME|PATH", help="hardware profile (default: the pattern's)")
+    parser.add_argument("--corner", choices=CORNERS, default="typ", help="component corner (default typ)")
+    parser.add_argument("-o", "--output", metavar="FILE", default="-", help="where to write (default stdout)")
+
+
+def run(args: argparse.Namespace) -> int:
+    anim, profile = open_pattern(args.pattern, args.profile)
+    if not 0 <= args.frame < anim.n_frames:
+        raise InputError(f"--frame {args.frame} is outside 0..{anim.n_frames - 1}", path=args.pattern)
+    frame = anim.frames[args.frame]
+    row = args.row
+    if row is None:
+        row = int(analyse(frame[None], anim.durations_ms[args.frame:args.frame + 1], profile,
+                          corner=args.corner).worst_row[0])
+    elif not 0 <= row < profile.rows:
+        raise InputError(f"--row {row} is outside 0..{profile.rows - 1}")
+    title = f"rowcast: {args.pattern} frame {args.frame} row {row}"
+    netlist = row_netlist(profile, frame, row, corner=args.corner, title=title)
+    if args.output == "-":
+        sys.stdout.write(netlist.text)
+    else:
+        atomic_write_text(args.output, netlist.text, keep_backup=False)
+        sys.stderr.write(f"wrote {args.output}: {len(netlist.branches)} lit LED branch(es); run "
+                         f"'ngspice -b {args.output}'\n")
+    return EXIT_OK
