@@ -18,8 +18,7 @@ from composer.profile import bundled_profiles, load_profile, parse_profile
 
 from conftest import PROFILES
 
-# shared-8x8 (one resistor per row) cannot light a lone LED within limits: see the refusal test below
-PROFILE_NAMES = sorted(set(bundled_profiles()) - {"shared-8x8"})
+PROFILE_NAMES = sorted(bundled_profiles())
 
 
 def _sections(anim) -> dict[str, range]:
@@ -109,22 +108,29 @@ def test_a_profile_that_cannot_light_one_led_is_refused(tmp_path, capsys):
     assert not out.exists()
 
 
-def test_shared_row_resistor_panel_is_refused_and_ohms_law_agrees(tmp_path, capsys):
-    prof = load_profile("shared-8x8")
+def test_small_shared_row_resistor_is_refused_and_ohms_law_agrees(tmp_path, capsys):
+    # shared-8x8 rebuilt with a 10 ohm row resistor: a lone LED takes the whole row current.
+    text = (PROFILES / "shared-8x8.toml").read_text()
+    text = re.sub(r"(\[resistor\.row\]\s*\nohms\s*=\s*)[0-9.]+", r"\g<1>10.0", text)
+    path = tmp_path / "shared-10.toml"
+    path.write_text(text)
+    prof = parse_profile(text, str(path))
+    assert prof.resistor.parts["row"].ohms == 10.0
     # Ohm's law by hand, typical corner, one red LED alone on a row: the row resistor and the register
     # output resistance carry the whole current. Driver drop from the profile's model
-    # V = a + b ln(I / 1 mA) + c I near 40 mA; red forward voltage near 40 mA between the profile's
-    # I-V points (20 mA: 2.00 V, 50 mA: 2.22 V).
+    # V = a + b ln(I / 1 mA) + c I at 40 mA; red forward voltage at 40 mA interpolated between the
+    # profile's I-V points.
     i = 0.040
     drop = prof.row_driver.drop_a_v + prof.row_driver.drop_b_v * np.log(i / 1e-3) + prof.row_driver.drop_c_ohm * i
-    vf = 2.00 + (2.22 - 2.00) * (40 - 20) / (50 - 20)
+    pts = np.array(prof.leds["red"].iv_points)
+    vf = float(np.interp(40.0, pts[:, 0], pts[:, 1]))
     r = prof.resistor.parts["row"].ohms + prof.column_register.r_on_ohm
     lone_ma = (prof.supply.voltage_v - drop - vf) / r * 1000
     assert lone_ma > prof.column_register.pin_abs_max_ma          # so refusing is right
     with pytest.raises(InputError, match="single LED"):
         bringup_animation(prof)
     out = tmp_path / "b.rowcast.toml"
-    assert main(["bringup", "--profile", "shared-8x8", "-o", str(out)]) == 2
+    assert main(["bringup", "--profile", str(path), "-o", str(out)]) == 2
     err = capsys.readouterr().err.strip()
     assert "register-pin" in err and "\n" not in err and not out.exists()
 
