@@ -123,6 +123,29 @@ class SimBoard:
         """Switch the firmware's row-tick interrupt off: a scan stall for the watchdog to catch."""
         self.command("stall")
 
+    def now(self, timeout: float = 10.0) -> int:
+        """The simulated cycle count at this moment."""
+        self.command("now")
+        assert self.proc.stdout is not None
+        deadline = time.monotonic() + timeout
+        while time.monotonic() < deadline:
+            line = self.proc.stdout.readline()
+            if not line:
+                break
+            if line.startswith(PREFIX + "now "):
+                return int(line.split()[2])
+        raise LinkError("the simulator harness stopped answering")
+
+    def wait_cycles(self, cycles: int, timeout: float = 60.0) -> int:
+        """Let at least ``cycles`` simulated cycles pass (however long that takes in wall time)."""
+        target = self.now() + cycles
+        deadline = time.monotonic() + timeout
+        while (now := self.now()) < target:
+            if time.monotonic() > deadline:
+                raise LinkError(f"the simulation did not reach cycle {target} in {timeout:g} s")
+            time.sleep(0.01)
+        return now
+
     def stop(self, timeout: float = 10.0) -> int:
         if self.proc.poll() is None:
             try:

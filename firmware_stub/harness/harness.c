@@ -12,7 +12,8 @@
  *   @rc mark <cycle> <text>                 command "mark <text>": a host-side event on the cycle axis
  *   @rc isr <vector> <count> <min> <mean> <max> <total> <window>   command "stats"
  *   @rc end <cycle>
- * Commands (one per line on stdin, with --commands): stall, mark TEXT, stats-reset, stats, quit.
+ * Commands (one per line on stdin, with --commands): stall, mark TEXT, stats-reset, stats, quit,
+ * and now (answers "@rc now <cycle>" on stdout whatever --records says).
  *
  * simavr 1.6's SPI model completes a byte 100 us after the SPDR write whatever the clock divider;
  * this harness replaces the SPDR write handler with one that honours SPR1:0 and SPI2X
@@ -203,6 +204,9 @@ static void command(char *line)
         stats_reset();
     } else if (!strcmp(line, "stats")) {
         stats_print();
+    } else if (!strcmp(line, "now")) {
+        printf("@rc now %llu\n", (unsigned long long)avr->cycle);   /* on stdout: for the caller to wait on */
+        fflush(stdout);
     } else if (!strcmp(line, "quit")) {
         quit = 1;
     }

@@ -14,14 +14,10 @@
 #define RC_BAUD 115200UL
 #endif
 #define RC_CYCLES_PER_US (F_CPU / 1000000UL)
-/* Cycles from the compare-A match to the blanking write in the row tick (interrupt response,
- * vector jump and prologue; counted in simavr, where tests/test_firmware_sim.py checks that the dark
- * gap between rows is at least the configured blanking). Compare B fires this much later so the
- * gap is the configured time, not that time minus the interrupt latency. */
-#define RC_BLANK_LEAD_CYCLES 24u
 
 volatile uint8_t rc_rx_buf[RC_RX_SIZE], rc_tx_buf[RC_TX_SIZE];
 volatile uint8_t rc_rx_head, rc_rx_tail, rc_tx_head, rc_tx_tail;
+uint16_t rc_blank_cycles;
 
 /* After a watchdog reset the watchdog stays enabled at its shortest period; switch it off before
  * anything else (avr-libc <avr/wdt.h> documentation). */
@@ -49,15 +45,13 @@ void board_init(void)
 
 void board_tick_start(uint16_t row_period_us, uint16_t blanking_us)
 {
-    uint16_t blank = (uint16_t)(blanking_us * RC_CYCLES_PER_US + RC_BLANK_LEAD_CYCLES);
     uint16_t top = (uint16_t)(row_period_us * RC_CYCLES_PER_US - 1u);
-    if (blank > top)
-        blank = top;
+    rc_blank_cycles = (uint16_t)(blanking_us * RC_CYCLES_PER_US);
     TCCR1B = 0;
     TCCR1A = 0;
     TCNT1 = 0;
     OCR1A = top;
-    OCR1B = blank;
+    OCR1B = top;                                    /* set per row by board_unblank_later */
     TIFR1 = _BV(OCF1A) | _BV(OCF1B);
     TIMSK1 = _BV(OCIE1A) | _BV(OCIE1B);
     TCCR1B = _BV(WGM12) | _BV(CS10);                /* CTC on OCR1A, no prescaler */

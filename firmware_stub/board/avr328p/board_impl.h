@@ -9,7 +9,10 @@
  *   PD0/PD1                UART0 to the USB serial bridge
  *
  * Timer 1 in CTC mode gives one compare-A interrupt per row (the scan tick) and a compare-B
- * interrupt at the end of the blanking time that re-enables the outputs. GPIOR0 bit 0 says whether
+ * interrupt at the end of the blanking time that re-enables the outputs. Compare B is set from the
+ * counter each row, after the blanking write, so a tick delayed by another interrupt still gets its
+ * full dark gap (a fixed compare B gave gaps of 14 cycles in simavr when the serial interrupt
+ * delayed the tick). GPIOR0 bit 0 says whether
  * outputs are switched on; the compare-B handler tests it with one instruction. */
 #ifndef RC_BOARD_IMPL_H
 #define RC_BOARD_IMPL_H
@@ -27,6 +30,7 @@
 
 extern volatile uint8_t rc_rx_buf[RC_RX_SIZE], rc_tx_buf[RC_TX_SIZE];
 extern volatile uint8_t rc_rx_head, rc_rx_tail, rc_tx_head, rc_tx_tail;
+extern uint16_t rc_blank_cycles;
 
 void board_init(void);
 void board_tick_start(uint16_t row_period_us, uint16_t blanking_us);
@@ -58,8 +62,14 @@ static inline void board_latch(void)
 
 static inline void board_blank(void) { PORTB |= _BV(RC_PIN_OE); }
 
-/* Let the compare-B interrupt (end of blanking) in even while the rest of the tick runs. */
-static inline void board_unblank_later(void) { sei(); }
+/* End of blanking: compare B, counted from now; then let it in even while the rest of the tick
+ * runs. If the sum passes the row period, compare B does not match and the row stays dark (safe). */
+static inline void board_unblank_later(void)
+{
+    OCR1B = (uint16_t)(TCNT1 + rc_blank_cycles);
+    TIFR1 = _BV(OCF1B);
+    sei();
+}
 
 static inline void board_outputs(uint8_t on)
 {

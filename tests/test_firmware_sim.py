@@ -1,0 +1,216 @@
+"""Simulator in the loop: the real firmware (avr-gcc) running in simavr (ATmega328P core at 16 MHz)
+drives simavr's simulated 74HC595-class registers; the real host transport (transport.Link) streams
+an animation to it through the harness's pseudo-terminal.
+
+Every latched register state the harness records is decoded through the wiring map
+(composer.wiring), and every timing is in simulated cycles. References outside the project:
+avr-gcc/avr-libc build the firmware, simavr runs it, simavr's 74HC595 part holds the chain; the
+watchdog period (16 ms typical at 5 V) is from the ATmega328P datasheet's watchdog table, from memory.
+"""
+from __future__ import annotations
+
+import time
+from pathlib import Path
+
+import numpy as np
+import pytest
+import serial
+
+from composer.profile import load_profile
+from composer.wiring import decode_shift_bytes, guard_masks, shift_bytes
+from tests.conftest import need, need_tool
+from transport import Link
+from transport import protocol as P
+from transport import simboard
+from transport.simboard import SimBoard, latched_shift_bytes, read_records
+
+F = simboard.F_CPU
+WATCHDOG_CYCLES = 16 * F // 1000            # 16 ms (ATmega328P datasheet, from memory)
+
+
+@pytest.fixture(scope="module")
+def build_dir(tmp_path_factory):
+    for tool in ("make", "avr-gcc", "avr-objcopy", "avr-size", "gcc"):
+        need_tool(tool)
+    need_tool("simavr")
+    need(Path("/usr/include/simavr/sim_avr.h").exists(), "libsimavr-dev (simavr headers) is not installed")
+    return simboard.build(tmp_path_factory.mktemp("fw-sim"))
+
+
+def frames_within(profile, link: Link, n: int, seed: int) -> list[np.ndarray]:
+    """``n`` distinct random frames the host guard lets through (at most 5 lit dies per row)."""
+    rng = np.random.default_rng(seed)
+    out: list[np.ndarray] = []
+    while len(out) < n:
+        f = np.zeros((profile.rows, profile.cols), np.uint8)
+        for r in range(profile.rows):
+            cols = rng.choice(profile.cols, size=rng.integers(1, 4), replace=False)
+            f[r, cols] = rng.choice([1, 2, 3], size=len(cols))
+        lit = ((f & 1) != 0).sum(axis=1) + ((f & 2) != 0).sum(axis=1)
+        if lit.max() <= 5 and getattr(link.check(f), "ok", True) and not any(np.array_equal(f, g) for g in out):
+            out.append(f)
+    return out
+
+
+def scans_of(recs, profile, start: int = 0, stop: int | None = None):
+    """Group latched states from ``start`` to ``stop`` (cycles) into full scans (slot 0..rows-1).
+    Returns (first cycle, frame, every slot's row_on was one-hot in order) per scan."""
+    data = latched_shift_bytes(recs, profile)
+    cyc = recs.latch_cycles
+    keep = (cyc >= start) & (cyc < (stop if stop is not None else np.iinfo(np.int64).max))
+    data, cyc = data[keep], cyc[keep]
+    row_on, leds = decode_shift_bytes(data, profile)
+    selected = np.where(row_on.sum(axis=1) == 1, row_on.argmax(axis=1), -1)
+    out = []
+    i = int(np.argmax(selected == 0)) if (selected == 0).any() else len(selected)
+    while i + profile.rows <= len(selected):
+        block = selected[i:i + profile.rows]
+        frame = np.zeros((profile.rows, profile.cols), np.uint8)
+        frame[block[block >= 0]] = leds[i:i + profile.rows][block >= 0]
+        out.append((int(cyc[i]), frame, bool(np.array_equal(block, np.arange(profile.rows)))))
+        i += profile.rows
+    return out
+
+
+def lit_per_latch(recs, profile) -> np.ndarray:
+    """Lit dies in each latched state, counted from the decoded LED states (red and green planes)."""
+    _, leds = decode_shift_bytes(latched_shift_bytes(recs, profile), profile)
+    return ((leds & 1) != 0).sum(axis=1) + ((leds & 2) != 0).sum(axis=1)
+
+
+def index_of(frame, frames) -> int:
+    for i, f in enumerate(frames):
+        if np.array_equal(frame, f):
+            return i
+    return -1
+
+
+def collapse(seq):
+    return [x for i, x in enumerate(seq) if i == 0 or x != seq[i - 1]]
+
+
+def raw_exchange(port: serial.Serial, msg, wire: bytes | None = None, wait: float = 5.0):
+    """Send one message (or raw bytes) and return the decoded replies that answer within ``wait``."""
+    port.reset_input_buffer()
+    port.write(wire if wire is not None else P.encode(msg))
+    dec, out = P.StreamDecoder(), []
+    deadline = time.monotonic() + wait
+    while time.monotonic() < deadline:
+        for payload in dec.feed(port.read(max(1, port.in_waiting))):
+            out.append(P.decode_payload(payload))
+        if out:
+            return out
+    return out
+
+
+def test_bench_8x8_end_to_end(build_dir, tmp_path):
+    profile = load_profile("bench-8x8")
+    recs_path = tmp_path / "records.txt"
+    period = int(round(profile.scan.row_period_us * F / 1e6))
+    with SimBoard.start(profile, build_dir=build_dir, records=recs_path) as board:
+        link = Link(board.port, profile, window=2, handshake_timeout=2.0, reconnect=False)
+        with link:
+            anim = frames_within(profile, link, 5, seed=11)
+            board.mark("anim")
+            for f in anim:
+                result = link.send_frame(f)
+                assert result.acked, result.reason
+            board.wait_cycles(4 * profile.rows * period)
+            board.mark("anim done")
+        # The host guard is bypassed on purpose from here: raw FRAME bytes on the same port.
+        masks = guard_masks(profile)
+        with serial.serial_for_url(board.port, baudrate=115200, timeout=0.05) as port:
+            over = anim[-1].copy()
+            over[2, :] = 3                                  # 16 lit in row 2
+            over[6, :4] = 3                                 # 8 lit in row 6
+            board.mark("guard")
+            got = raw_exchange(port, P.Frame(900, shift_bytes(over, profile).tobytes()))
+            assert got == [P.Reject(900, P.Reason.GUARD, 2)]
+            zeros = bytes(profile.rows * len(masks.xor))  # every active-low column on, rows off
+            got = raw_exchange(port, P.Frame(901, zeros))
+            assert got and got[0].reason == P.Reason.GUARD
+            # A bad CRC and a truncated message: dropped silently, display unchanged.
+            other = shift_bytes(anim[0], profile).tobytes()
+            wire = bytearray(P.encode(P.Frame(902, other)))
+            wire[-2] = wire[-2] ^ 0x40 or 0x41            # the CRC's low byte, still not a delimiter
+            assert raw_exchange(port, None, bytes(wire), wait=0.5) == []
+            cut = P.encode(P.Frame(903, other))
+            assert raw_exchange(port, None, cut[: len(cut) // 2] + b"\x00", wait=0.5) == []
+            ident = raw_exchange(port, P.Identify(904))
+            assert ident[0].rx_dropped == 2 and ident[0].state == 3, ident
+            board.mark("faults done")
+            # The host stops sending: the last frame keeps scanning.
+            board.wait_cycles(30 * profile.rows * period)
+            board.mark("idle done")
+        board.stall()
+        board.wait_cycles(WATCHDOG_CYCLES + 4 * period)
+        board.mark("end")
+    recs = read_records(recs_path)
+    m = recs.marks
+
+    # 1. Every authored frame shown exactly, in order, in whole clean scans; nothing else shown
+    #    while the outputs were on.
+    shown = []
+    for start, frame, clean in scans_of(recs, profile, m["anim"], m["anim done"]):
+        assert clean, f"scan at cycle {start} did not select rows 0..7 once each in order"
+        if recs.oe_at(start + period // 2):
+            shown.append(index_of(frame, anim))
+    assert collapse(shown) == list(range(len(anim))), collapse(shown)
+
+    # 2. No ghosting: every latch happens while output-enable is inactive, each latched state selects
+    #    exactly one row, and the dark gap around it is at least the configured blanking.
+    row_on, _ = decode_shift_bytes(latched_shift_bytes(recs, profile), profile)
+    assert (row_on.sum(axis=1) <= 1).all()
+    assert all(recs.oe_at(int(c)) == 0 for c in recs.latch_cycles)
+    oe = recs.oe
+    offs, ons = oe[oe[:, 1] == 0, 0], oe[oe[:, 1] == 1, 0]
+    gaps = [int(ons[np.searchsorted(ons, t)] - t) for t in offs[1:-1] if np.searchsorted(ons, t) < len(ons)]
+    blank_cycles = int(profile.scan.blanking_us * F / 1e6)
+    assert gaps and min(gaps[:-1]) >= blank_cycles, (min(gaps), blank_cycles)
+
+    # 3. Output-enable inactive from reset until the first frame was shown.
+    first_on = int(ons[0])
+    first_anim_scan = next(s for s, f, _ in scans_of(recs, profile) if index_of(f, anim) == 0)
+    assert first_on >= first_anim_scan
+
+    # 4. The firmware guard: no latched state ever has more lit dies than the configured limit,
+    #    although frames over it were sent straight to the port.
+    assert lit_per_latch(recs, profile).max() <= link._limit
+    after_faults = scans_of(recs, profile, m["guard"], m["idle done"])
+    assert after_faults and all(index_of(f, anim) == len(anim) - 1 for _, f, _ in after_faults)
+
+    # 5. After the host stops, the last frame keeps scanning at the configured row period,
+    #    measured in simulated cycles.
+    idle = scans_of(recs, profile, m["faults done"], m["idle done"])
+    assert len(idle) >= 28
+    cyc = recs.latch_cycles[(recs.latch_cycles >= m["faults done"]) & (recs.latch_cycles < m["idle done"])]
+    steps = np.diff(cyc)
+    assert np.median(steps) == period and np.abs(steps - period).max() <= 8, (np.median(steps), steps.max())
+    assert all(recs.oe_at(s + period // 2) == 1 for s, _, _ in idle)
+
+    # 6. A scan stall: output-enable inactive within the watchdog period, and it stays so.
+    (stall,) = recs.stalls
+    later_off = [int(c) for c, state in oe if c >= stall and state == 0]
+    assert later_off and later_off[0] - stall <= WATCHDOG_CYCLES, (later_off, stall)
+    assert recs.oe_at(m["end"]) == 0
+    assert recs.resets and recs.resets[0] - stall <= WATCHDOG_CYCLES
+
+
+def test_wide_16x8_five_registers(build_dir, tmp_path):
+    profile = load_profile("wide-16x8")
+    recs_path = tmp_path / "records.txt"
+    period = int(round(profile.scan.row_period_us * F / 1e6))
+    with SimBoard.start(profile, build_dir=build_dir, records=recs_path) as board:
+        with Link(board.port, profile, window=2, handshake_timeout=2.0, reconnect=False) as link:
+            anim = frames_within(profile, link, 3, seed=5)
+            board.mark("anim")
+            for f in anim:
+                assert link.send_frame(f).acked
+            board.wait_cycles(3 * profile.rows * period)
+            board.mark("done")
+    recs = read_records(recs_path)
+    assert recs.latch_bytes.shape[1] == 5
+    shown = [index_of(f, anim) for s, f, clean in scans_of(recs, profile, recs.marks["anim"], recs.marks["done"])
+             if clean and recs.oe_at(s + period // 2)]
+    assert collapse(shown) == [0, 1, 2]
+    assert lit_per_latch(recs, profile).max() <= link._limit
