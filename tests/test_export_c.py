@@ -136,14 +136,40 @@ def test_demo_patterns_compile_and_print_back(tmp_path):
             assert np.array_equal(got["ms"], anim.durations_ms)
 
 
-# -- random animations, names and profiles (hypothesis) ---------------------------------------------
+# -- random animations, names, bundled and randomly rewired profiles (hypothesis) ---------------------
 _NAMES = st.text(st.characters(codec="utf-8", exclude_categories=("Cs",)), max_size=24)
 
 
 @st.composite
+def _random_wiring(draw):
+    """A bundled profile with its chain rewired at random: bit order, where the first byte lands, the
+    order of the registers, each register's polarity and its output-to-line map."""
+    import tomllib
+
+    import tomli_w
+    from composer.profile import PROFILES_DIR, parse_profile
+    base = draw(st.sampled_from(PROFILE_NAMES))
+    doc = tomllib.loads((PROFILES_DIR / f"{base}.toml").read_text())
+    chain = doc["chain"]
+    chain["bit_order"] = draw(st.sampled_from(["msb-first", "lsb-first"]))
+    chain["first_byte_lands_in"] = draw(st.sampled_from(["far-end", "near-end"]))
+    regs = draw(st.permutations(chain["register"]))
+    for role in ("rows", "red", "green"):
+        mine = [r for r in regs if r["drives"] == role]
+        lines = draw(st.permutations(sorted(x for r in mine for x in r["lines"])))
+        for k, reg in enumerate(mine):
+            reg["lines"] = list(lines[8 * k: 8 * k + 8])
+    for reg in regs:
+        reg["active"] = draw(st.sampled_from(["high", "low"]))
+    chain["register"] = list(regs)
+    doc["name"] = f"{base}-rewired"
+    return base, parse_profile(tomli_w.dumps(doc), f"<{base} rewired>")
+
+
+@st.composite
 def _case(draw):
-    profile_name = draw(st.sampled_from(PROFILE_NAMES))
-    profile = load_profile(profile_name)
+    profile_name, profile = draw(st.one_of(st.sampled_from(PROFILE_NAMES).map(lambda n: (n, load_profile(n))),
+                                           _random_wiring()))
     n = draw(st.integers(1, 4))
     frames = draw(st.lists(st.integers(0, 3), min_size=n * profile.rows * profile.cols,
                            max_size=n * profile.rows * profile.cols))
@@ -155,7 +181,7 @@ def _case(draw):
 
 
 @pytest.mark.external
-@settings(max_examples=4, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture,
+@settings(max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture,
                                                                  HealthCheck.too_slow])
 @given(st.lists(_case(), min_size=1, max_size=6))
 def test_random_exports_compile_and_print_back(tmp_path_factory, batch):
