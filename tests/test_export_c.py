@@ -416,12 +416,19 @@ def test_c_export_in_the_receiver_host_build_lights_the_authored_leds(tmp_path, 
 
 
 def test_cli_export_of_an_over_limit_pattern_writes_and_exits_1(tmp_path, capsys):
-    from composer.bundled import PATTERNS_DIR
+    # Every LED amber on bench-8x8 rebuilt with 47 ohm column resistors: eight outputs of one column
+    # register conduct at once, each about (5 V - 1.5 V driver - 2 V LED) / (47 + 25 ohm) = 21 mA by
+    # Ohm's law, about 170 mA in all: far over the 70 mA package pin rating the profile gives.
+    from conftest import PROFILES
+    prof_path = tmp_path / "low-r.toml"
+    prof_path.write_text((PROFILES / "bench-8x8.toml").read_text().replace("ohms = 150.0", "ohms = 47.0"))
+    pat = tmp_path / "full.rowcast.toml"
+    save_pattern(Animation(np.full((2, 8, 8), 3, np.uint8), [500, 500], name="full", profile="low-r.toml"), pat)
     out = tmp_path / "o.h"
-    status = run_cli(["export", str(PATTERNS_DIR / "overload-sweep.rowcast.toml"), "--c", str(out)])
-    anim, profile = open_pattern(PATTERNS_DIR / "overload-sweep.rowcast.toml")
+    status = run_cli(["export", str(pat), "--c", str(out)])
+    anim, profile = open_pattern(pat)
     report = check_report(anim, profile)
-    assert report.violations, "the demo is meant to break a limit"
+    assert report.violations, "a full amber panel is meant to break a limit"
     assert status == 1 and out.exists()
     assert str(report.violations[0]) in out.read_text().replace("\n *     - ", "\n")
     assert "over a limit" in capsys.readouterr().err
