@@ -214,3 +214,40 @@ def test_wide_16x8_five_registers(build_dir, tmp_path):
              if clean and recs.oe_at(s + period // 2)]
     assert collapse(shown) == [0, 1, 2]
     assert lit_per_latch(recs, profile).max() <= link._limit
+
+
+def test_rowcast_sim_serves_rowcast_stream(build_dir, tmp_path):
+    """The two commands a builder types: ``rowcast sim`` prints a port, ``rowcast stream`` plays a
+    demo pattern on it, and every frame of the pattern reaches the simulated registers."""
+    import signal
+    import subprocess
+    import sys
+
+    from composer.pattern_file import open_pattern
+    from tests.conftest import PATTERNS
+
+    pattern = PATTERNS / "kettle-ready.rowcast.toml"
+    anim, profile = open_pattern(pattern)
+    link_path, recs_path = tmp_path / "port", tmp_path / "records.txt"
+    sim = subprocess.Popen([sys.executable, "-m", "composer", "sim", "--profile", profile.name, "--link",
+                            str(link_path), "--records", str(recs_path), "--build-dir", str(build_dir),
+                            "--seconds", "60"], stdout=subprocess.PIPE, text=True)
+    try:
+        first = sim.stdout.readline()
+        assert first.startswith(f"simulated receiver for {profile.name}") and str(link_path) in first, first
+        played = subprocess.run([sys.executable, "-m", "composer", "stream", str(pattern), "--port", str(link_path),
+                                 "--quiet"], capture_output=True, text=True, timeout=120)
+        assert played.returncode == 0, played.stderr
+    finally:
+        sim.send_signal(signal.SIGINT)              # Ctrl-C, as a builder stops it
+        sim.wait(20)
+    assert sim.returncode == 0
+    recs = read_records(recs_path)
+    period = int(round(profile.scan.row_period_us * F / 1e6))
+    frames = [np.asarray(f) for f in anim.frames]
+    # The pattern blinks (frames repeat), so compare the order of what was on the panel with the
+    # order of the pattern's frames, each named by its first occurrence.
+    expected = collapse([index_of(f, frames) for f in frames])
+    shown = collapse([index_of(f, frames) for s, f, clean in scans_of(recs, profile)
+                      if clean and recs.oe_at(s + period // 2)])
+    assert shown == expected, (shown, expected)

@@ -1,0 +1,69 @@
+"""``rowcast sim [--profile P]``: start the receiver firmware in the AVR simulator.
+
+Builds the firmware (avr-gcc) and the simavr harness if they are out of date, starts the harness
+with the profile's chain length of simulated 74HC595-class registers, and prints the serial port to
+give ``rowcast stream --port`` or the composer. Runs until Ctrl-C (or ``--seconds``), paced to
+wall-clock time so animations play at their real speed.
+"""
+from __future__ import annotations
+
+import argparse
+import signal
+import sys
+import time
+from pathlib import Path
+
+from composer.errors import EXIT_OK, InputError
+from composer.profile import load_profile
+
+from .. import simboard
+
+__all__ = ["configure", "run"]
+
+MAX_REGISTERS = 8       # firmware_stub/core/config.h: RC_MAX_BYTES_PER_ROW
+MAX_ROWS = 16           # RC_MAX_ROWS
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("--profile", default="bench-8x8", metavar="P",
+                        help="hardware profile (name or path) whose chain the simulator wires (default bench-8x8)")
+    parser.add_argument("--link", metavar="PATH", help="also make PATH a symbolic link to the port")
+    parser.add_argument("--records", metavar="FILE",
+                        help="write every latched register state and output-enable change to FILE")
+    parser.add_argument("--seconds", type=float, metavar="S", help="stop after S seconds (default: at Ctrl-C)")
+    parser.add_argument("--fast", action="store_true",
+                        help="run as fast as the machine allows instead of at the board's real speed")
+    parser.add_argument("--build-dir", metavar="DIR", help=f"where make puts the build (default {simboard.BUILD_DEFAULT})")
+
+
+def run(args: argparse.Namespace) -> int:
+    if args.seconds is not None and args.seconds <= 0:
+        raise InputError(f"--seconds {args.seconds:g}: must be more than 0")
+    profile = load_profile(args.profile)
+    n_regs = len(profile.chain.registers)
+    if n_regs > MAX_REGISTERS or profile.rows > MAX_ROWS:
+        raise InputError(f"profile {profile.name}: {profile.rows} rows x {n_regs} registers does not fit the "
+                         f"receiver firmware ({MAX_ROWS} rows x {MAX_REGISTERS} registers at most)")
+    build_dir = Path(args.build_dir) if args.build_dir else simboard.BUILD_DEFAULT
+    simboard.build(build_dir)
+    board = simboard.SimBoard.start(profile, build_dir=build_dir,
+                                    records=Path(args.records) if args.records else None,
+                                    link=Path(args.link) if args.link else None, realtime=not args.fast)
+    port = board.link or board.port
+    print(f"simulated receiver for {profile.name} ({n_regs} registers, ATmega328P-class core at 16 MHz) on {port}")
+    print(f"  rowcast stream PATTERN --port {port}")
+    sys.stdout.flush()
+    def stop_on_term(signum: int, frame: object) -> None:
+        raise KeyboardInterrupt
+
+    previous = signal.signal(signal.SIGTERM, stop_on_term)
+    try:
+        deadline = None if args.seconds is None else time.monotonic() + args.seconds
+        while board.proc.poll() is None and (deadline is None or time.monotonic() < deadline):
+            time.sleep(0.1)
+    except KeyboardInterrupt:
+        pass
+    finally:
+        board.stop()
+        signal.signal(signal.SIGTERM, previous)
+    return EXIT_OK
