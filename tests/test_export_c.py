@@ -432,3 +432,24 @@ def test_cli_export_of_an_over_limit_pattern_writes_and_exits_1(tmp_path, capsys
     assert status == 1 and out.exists()
     assert str(report.violations[0]) in out.read_text().replace("\n *     - ", "\n")
     assert "over a limit" in capsys.readouterr().err
+
+
+def test_cli_refuses_to_overwrite_the_pattern_or_write_two_outputs_to_one_file(tmp_path, capsys):
+    pat = _pattern(tmp_path)
+    before = pat.read_bytes()
+    assert run_cli(["export", str(pat), "--c", str(pat)]) == 2
+    assert pat.read_bytes() == before
+    assert run_cli(["export", str(pat), "--c", str(tmp_path / "x"), "--json", str(tmp_path / "x")]) == 2
+    assert not (tmp_path / "x").exists()
+    errs = capsys.readouterr().err.strip().splitlines()
+    assert len(errs) == 2 and all("would be overwritten" in e for e in errs)
+
+
+def test_cli_header_states_the_stress_corner_too(tmp_path):
+    pat = _pattern(tmp_path)
+    out = tmp_path / "p.h"
+    assert run_cli(["export", str(pat), "--c", str(out)]) == 0
+    anim, profile = open_pattern(pat)
+    stress = check_report(anim, profile, corner="stress")
+    assert f"At the stress corner (top supply, lowest forward voltage): worst row " \
+           f"{float(np.max(stress.worst_row_ma)):.1f} mA" in out.read_text()

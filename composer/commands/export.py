@@ -47,6 +47,12 @@ def run(args: argparse.Namespace) -> int:
     wanted = {opt: check_out(p, opt) for opt, p in outputs.items() if p}
     if not wanted:
         raise InputError("nothing to export: give --c, --gif, --png and/or --json")
+    seen: dict[Path, str] = {Path(args.pattern).resolve(): "the pattern itself"}
+    for opt, out in wanted.items():
+        key = out.resolve()
+        if key in seen:
+            raise InputError(f"{opt} {out} is the same file as {seen[key]}: it would be overwritten")
+        seen[key] = opt
     if args.prefix is not None:
         check_prefix(args.prefix)
     if args.gif_out or args.png_out:
@@ -58,8 +64,10 @@ def run(args: argparse.Namespace) -> int:
     report = check_report(anim, profile)
     blobs: dict[str, bytes] = {}
     if args.c_out:
+        stress = check_report(anim, profile, corner="stress")
         blobs["--c"] = c_header(anim, profile, report, layout=args.layout, prefix=args.prefix,
-                                progmem=args.progmem, source_name=Path(args.pattern).name).encode()
+                                progmem=args.progmem, source_name=Path(args.pattern).name,
+                                stress_report=stress).encode()
     if args.gif_out:
         blobs["--gif"] = gif_bytes(anim, args.scale)
     if args.png_out:

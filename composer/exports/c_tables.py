@@ -133,9 +133,11 @@ def _duration_type(durations: np.ndarray) -> tuple[str, str]:
 
 
 def c_header(anim: Animation, profile: Profile, report: Any, *, layout: str = "shift",
-             prefix: str | None = None, progmem: bool = False, source_name: str = "") -> str:
+             prefix: str | None = None, progmem: bool = False, source_name: str = "",
+             stress_report: Any = None) -> str:
     """The whole header as text. ``report`` is the electrical engine's report for ``anim`` on
-    ``profile`` (its figures go into the comment block)."""
+    ``profile`` (its figures go into the comment block); ``stress_report``, if given, the same at the
+    engine's stress corner, summarised in one more line."""
     if layout not in LAYOUTS:
         raise InputError(f'--layout "{layout}" is not one of {", ".join(LAYOUTS)}')
     up, low = c_names(anim.name, prefix)
@@ -169,6 +171,12 @@ def c_header(anim: Animation, profile: Profile, report: Any, *, layout: str = "s
             add(f" *     - {text}")
     else:
         add(" *   every frame is within the profile's limits")
+    if stress_report is not None:
+        st = _summary(stress_report)
+        verdict = (f"{len(st.frames_over)} frame(s) over a limit" if st.frames_over else
+                   "over a limit as a whole" if st.first_violations else "within every limit")
+        add(f" * At the {_comment_safe(str(getattr(stress_report, 'corner', 'stress')))} corner (top supply, lowest "
+            f"forward voltage): worst row {st.worst_row_ma:.1f} mA, {verdict}.")
     add(" * The check is only as good as the profile: confirm currents against your parts' datasheets,")
     add(" * and keep the row scan running - a stalled scan leaves one row lit at the full peak current.")
     add(" *")
