@@ -203,3 +203,11 @@ def test_cli_import_with_a_profile_file_names_it_relative_to_the_pattern(tmp_pat
     assert main(["import", str(src), "--profile", str(prof_copy), "-o", str(out)]) == 0
     anim, prof = open_pattern(out)          # resolves ../panels/mine.toml from the pattern's folder
     assert anim.profile == "../panels/mine.toml" and (anim.frames == GREEN).all()
+
+
+def test_cli_import_refuses_to_overwrite_the_image(tmp_path, capsys):
+    src = tmp_path / "in.png"
+    Image.new("RGB", (8, 8), (0, 255, 0)).save(src)
+    before = src.read_bytes()
+    assert main(["import", str(src), "--profile", "bench-8x8", "-o", str(src)]) == 2
+    assert src.read_bytes() == before and "overwritten" in capsys.readouterr().err

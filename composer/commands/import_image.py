@@ -3,6 +3,9 @@ GIF becomes a pattern (colour rule in composer/generate/image_import.py and the 
 from __future__ import annotations
 
 import argparse
+from pathlib import Path
+
+from ..errors import InputError
 
 from ..generate.image_import import import_image
 from ..generate.pattern_ref import profile_ref_for
@@ -32,6 +35,8 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     out = check_pattern_out(args.output)
+    if out.resolve() == Path(args.image).resolve():
+        raise InputError(f"-o {out} is the image itself: it would be overwritten")
     profile = load_profile(args.profile)
     anim = import_image(args.image, profile, fit=args.fit, dither=args.dither, name=args.name, ms=args.ms,
                         profile_ref=profile_ref_for(args.profile, out))
