@@ -55,7 +55,7 @@ def render_design(d: Design) -> str:
     lines.append("  resulting LED currents (typical): " + "; ".join(
         f"{c} {d.full_row_ma[c]:.2f} mA in a full row, {d.alone_ma[c]:.2f} mA alone" for c in d.full_row_ma))
     rep = d.check
-    lines.append("re-check at the stress corner (everything lit, full rows, single LEDs):")
+    lines.append(f"re-check at the stress corner ({d.checked_on}):")
     lines.append(f"  worst row {rep.worst_row_ma.max():.1f} mA (limit {rep.row_limit_ma:.0f}), pin "
                  f"{rep.pin_ma_max.max():.1f} mA (limit {p.column_register.pin_abs_max_ma:g}), package "
                  f"{rep.package_ma_max.max():.1f} mA (limit {p.column_register.package_abs_max_ma:g}), supply average "

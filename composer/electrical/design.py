@@ -33,7 +33,8 @@ class Design:
     chosen_ohm: dict[str, float]
     full_row_ma: dict[str, float]          # per LED with every LED of a row lit (typical corner)
     alone_ma: dict[str, float]             # one LED lit alone in its row (typical corner)
-    check: Report                          # the stress-corner re-check on the worst-case frames
+    check: Report                          # the stress-corner re-check
+    checked_on: str                        # what was re-checked: "worst-case frames" or "the pattern"
 
 
 def with_resistors(profile: Profile, ohms: dict[str, float]) -> Profile:
@@ -82,7 +83,9 @@ def _exact_row(profile: Profile, target_a: float) -> dict[str, float]:
     return {"row": hi}
 
 
-def design_resistors(profile: Profile, target_ma: float, *, series: str = "E24") -> Design:
+def design_resistors(profile: Profile, target_ma: float, *, series: str = "E24",
+                     frames: np.ndarray | None = None, durations: np.ndarray | None = None) -> Design:
+    """Resistors for ``target_ma``; re-checked on ``frames`` (a pattern) or on :func:`stress_frames`."""
     if not (target_ma > 0 and np.isfinite(target_ma)):
         raise InputError(f"--target-ma must be a current above 0 mA, got {target_ma!r}")
     target_a = target_ma * 1e-3
@@ -97,11 +100,14 @@ def design_resistors(profile: Profile, target_ma: float, *, series: str = "E24")
     circ = circuit_for(designed, "typ")
     full = solve_rows(profile.cols, profile.cols, circ).i_led * 1e3
     alone = [float(solve_rows(1 if k == 0 else 0, 1 if k == 1 else 0, circ).i_led[k]) * 1e3 for k in range(2)]
-    frames = stress_frames(designed)
-    check = analyse(frames, np.full(frames.shape[0], 1000), designed, corner="stress")
+    checked_on = "the pattern"
+    if frames is None:
+        frames, checked_on = stress_frames(designed), "worst-case frames: everything lit, full rows, single LEDs"
+        durations = np.full(frames.shape[0], 1000)
+    check = analyse(frames, durations, designed, corner="stress")
     return Design(designed, target_ma, series.upper(), exact, chosen,
                   {c: float(full[k]) for k, c in enumerate(COLOURS)},
-                  {c: alone[k] for k, c in enumerate(COLOURS)}, check)
+                  {c: alone[k] for k, c in enumerate(COLOURS)}, check, checked_on)
 
 
 def _frames_ok(profile: Profile, frames: np.ndarray, durations: np.ndarray) -> bool:
@@ -124,12 +130,12 @@ def max_target_for_pattern(profile: Profile, frames: np.ndarray, durations: np.n
         return None
     lo, hi = low_ma, high_ma
     if ok(hi):
-        return design_resistors(profile, hi, series=series)
+        return design_resistors(profile, hi, series=series, frames=frames, durations=durations)
     for _ in range(40):
         mid = (lo * hi) ** 0.5
         lo, hi = (mid, hi) if ok(mid) else (lo, mid)
         if hi / lo < 1.0005:
             break
-    return design_resistors(profile, lo, series=series)
+    return design_resistors(profile, lo, series=series, frames=frames, durations=durations)
 
 
