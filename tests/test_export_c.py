@@ -453,3 +453,15 @@ def test_cli_header_states_the_stress_corner_too(tmp_path):
     stress = check_report(anim, profile, corner="stress")
     assert f"At the stress corner (top supply, lowest forward voltage): worst row " \
            f"{float(np.max(stress.worst_row_ma)):.1f} mA" in out.read_text()
+
+
+@pytest.mark.parametrize("layout", ["shift", "bitmap"])
+def test_stated_table_size_matches_sizeof(tmp_path, layout):
+    prof = load_profile("wide-16x8")
+    anim = Animation(np.zeros((3, 8, 16), np.uint8), [10, 70_000, 10], name="sizes")
+    header = c_header(anim, prof, check_report(anim, prof), layout=layout)
+    got = compile_and_print(tmp_path, [(header, anim.name, layout, None)])[0]
+    stated = re.search(r"Table sizes: (\d+) \+ (\d+) bytes", header)
+    assert int(stated.group(1)) == got["sizeof"]
+    assert int(stated.group(2)) == 3 * 4          # 70 s is over uint16_t: uint32_t durations
+    assert "uint32_t sizes_durations_ms" in header

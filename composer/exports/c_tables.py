@@ -194,10 +194,16 @@ def c_header(anim: Animation, profile: Profile, report: Any, *, layout: str = "s
         add(f" * Layout \"bitmap\": {low}_bitmap[frame][colour][row][k], colour {up}_RED = 0, {up}_GREEN = 1;")
         add(" * bit 7 (most significant) of byte k is column 8k, bit 6 is column 8k+1, ...; 1 = LED on.")
         add(" * Logical masks before any wiring: your own code maps them to the chain.")
-    add(f" * {low}_durations_ms[frame] is how long each frame is shown, in milliseconds.")
+    ctype, suffix = _duration_type(anim.durations_ms)
+    per_slot = profile.n_registers if layout == "shift" else 2 * ((cols + 7) // 8)
+    table_bytes = n * rows * per_slot
+    ms_bytes = n * (2 if ctype == "uint16_t" else 4)
+    add(f" * {low}_durations_ms[frame] ({ctype}) is how long each frame is shown, in milliseconds.")
+    add(f" * Table sizes: {table_bytes} + {ms_bytes} bytes (an ATmega328P-class chip has 32 KB of flash and 2 KB")
+    add(" * of RAM: use --progmem there, and fewer frames if the sum nears the flash left by your code).")
     if progmem:
-        add(f" * Tables carry {up}_PROGMEM: program memory on AVR (read them with pgm_read_byte /")
-        add(" * pgm_read_word from avr/pgmspace.h), nothing on other targets.")
+        add(f" * Tables carry {up}_PROGMEM: program memory on AVR (read them with pgm_read_byte, and the")
+        add(" * durations with pgm_read_word or pgm_read_dword, from avr/pgmspace.h), nothing elsewhere.")
     add(" */")
 
     # -- preamble --------------------------------------------------------------------------------
@@ -251,7 +257,6 @@ def c_header(anim: Animation, profile: Profile, report: Any, *, layout: str = "s
                 add("        },")
             add("    },")
         add("};")
-    ctype, suffix = _duration_type(anim.durations_ms)
     add("")
     add(f"static const {ctype} {low}_durations_ms[{up}_FRAMES]{attr} = {{")
     ms = [f"{int(v)}{suffix}" for v in anim.durations_ms]

@@ -30,7 +30,7 @@ COLOURS_RGB = {1: (235, 40, 30), 2: (40, 215, 60), 3: (255, 170, 20)}   # red, g
 LEVELS = 16                                  # coverage levels of the anti-aliased dot edge
 MIN_SCALE, MAX_SCALE, DEFAULT_SCALE = 2, 64, 12
 MAX_PIXELS = 200_000_000                     # pixels over all frames; beyond this, ask for a smaller --scale
-_TWIN = 4 * LEVELS                           # a second index with the board colour (see gif_bytes)
+_TWIN = 4 * LEVELS                           # indices _TWIN + i repeat the colours of i (see gif_bytes)
 _SUPERSAMPLE = 4
 
 
@@ -42,7 +42,7 @@ def _palette() -> list[int]:
         for level in range(LEVELS):
             t = level / (LEVELS - 1)
             pal.extend(int(round(v)) for v in board * (1 - t) + np.array(rgb, float) * t)
-    pal.extend(BOARD_RGB)                    # index _TWIN: same colour as level 0
+    pal = pal + pal                          # index _TWIN + i: the same colour as index i
     pal.extend([0, 0, 0] * (256 - len(pal) // 3))
     return pal
 
@@ -64,14 +64,15 @@ def check_scale(scale: int) -> int:
 
 
 def _indices(frames: np.ndarray, scale: int) -> np.ndarray:
-    """(F, rows, cols) states -> (F, rows*scale, cols*scale) palette indices."""
+    """(F, rows, cols) states -> (F, rows*scale, cols*scale) palette indices (one byte per pixel)."""
     n, rows, cols = frames.shape
     if n * rows * cols * scale * scale > MAX_PIXELS:
         raise InputError(f"{n} frames of {rows}x{cols} LEDs at --scale {scale} would be over "
                          f"{MAX_PIXELS} pixels; use a smaller --scale")
     dot = _dot_levels(scale)
-    big = np.repeat(np.repeat(frames.astype(np.uint8) * np.uint8(LEVELS), scale, axis=1), scale, axis=2)
-    return big + np.tile(dot, (rows, cols))[None]
+    base = (frames.astype(np.uint8) * np.uint8(LEVELS))[:, :, None, :, None]      # (F, rows, 1, cols, 1)
+    out = base + dot[None, None, :, None, :]                                         # broadcast, one pass
+    return out.reshape(n, rows * scale, cols * scale)
 
 
 def frame_image(frame: np.ndarray, scale: int = DEFAULT_SCALE) -> Image.Image:
@@ -95,12 +96,12 @@ def gif_bytes(anim: Animation, scale: int = DEFAULT_SCALE) -> bytes:
     """An endlessly looping GIF with one GIF frame per animation frame."""
     idx = _indices(anim.frames, check_scale(scale))
     # pillow's GIF writer folds a frame that equals the previous one into it (adding the delays).
-    # The top-left pixel is always board colour; switching it between two palette entries of that
-    # same colour keeps every frame distinct without changing what anyone sees.
+    # Moving the top-left pixel to the twin palette entry of its own colour keeps every frame
+    # distinct without changing what anyone sees.
     same = np.zeros(anim.n_frames, bool)
     same[1:] = np.all(anim.frames[1:] == anim.frames[:-1], axis=(1, 2))
     twin = np.cumsum(same) % 2 == 1
-    idx[twin, 0, 0] = _TWIN
+    idx[twin, 0, 0] += _TWIN
     pal = _palette()
     images = []
     for plane in idx:
