@@ -211,3 +211,17 @@ def test_cli_import_refuses_to_overwrite_the_image(tmp_path, capsys):
     before = src.read_bytes()
     assert main(["import", str(src), "--profile", "bench-8x8", "-o", str(src)]) == 2
     assert src.read_bytes() == before and "overwritten" in capsys.readouterr().err
+
+
+def test_cli_import_of_an_over_limit_picture_warns_and_exits_1(tmp_path, capsys):
+    # A white picture lights every LED amber. On bench-8x8 rebuilt with 47 ohm column resistors each
+    # of a register's eight outputs carries about (5 - 1.5 - 2 V) / 72 ohm = 21 mA (Ohm's law),
+    # far over the 70 mA the profile allows a package.
+    from conftest import PROFILES
+    prof_path = tmp_path / "low-r.toml"
+    prof_path.write_text((PROFILES / "bench-8x8.toml").read_text().replace("ohms = 150.0", "ohms = 47.0"))
+    src = tmp_path / "white.png"
+    Image.new("RGB", (8, 8), (255, 255, 255)).save(src)
+    out = tmp_path / "w.rowcast.toml"
+    assert main(["import", str(src), "--profile", str(prof_path), "-o", str(out)]) == 1
+    assert out.exists() and "over a limit" in capsys.readouterr().err

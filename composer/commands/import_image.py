@@ -12,7 +12,7 @@ from ..generate.pattern_ref import profile_ref_for
 from ..model import MAX_MS, MIN_MS
 from ..pattern_file import save_pattern
 from ..profile import load_profile
-from ..generate.cli_args import check_pattern_out, ms_arg
+from ..generate.cli_args import check_pattern_out, ms_arg, warn_if_over
 
 __all__ = ["configure", "run"]
 
@@ -42,4 +42,4 @@ def run(args: argparse.Namespace) -> int:
                         profile_ref=profile_ref_for(args.profile, out))
     save_pattern(anim, out)
     print(f"wrote {out}: {anim.n_frames} frame(s), {anim.rows}x{anim.cols}, {anim.total_ms} ms")
-    return 0
+    return warn_if_over(anim, profile, out, "import")

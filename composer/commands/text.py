@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import argparse
 
-from ..generate.cli_args import check_pattern_out
+from ..generate.cli_args import check_pattern_out, warn_if_over
 from ..generate.pattern_ref import profile_ref_for
 from ..generate.text_scroll import COLOUR_NAMES, DEFAULT_SPEED, MAX_SPEED, MIN_SPEED, text_animation
 from ..pattern_file import save_pattern
@@ -29,4 +29,4 @@ def run(args: argparse.Namespace) -> int:
                           profile_ref=profile_ref_for(args.profile, out))
     save_pattern(anim, out)
     print(f"wrote {out}: {anim.n_frames} frames of {int(anim.durations_ms[0])} ms, {anim.total_ms} ms")
-    return 0
+    return warn_if_over(anim, profile, out, "text")

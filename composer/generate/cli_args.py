@@ -2,12 +2,13 @@
 from __future__ import annotations
 
 import argparse
+import sys
 from pathlib import Path
 
 from ..errors import InputError
 from ..model import MAX_MS, MIN_MS
 
-__all__ = ["check_out", "check_pattern_out", "ms_arg"]
+__all__ = ["check_out", "check_pattern_out", "ms_arg", "warn_if_over"]
 
 
 def check_out(path: str, option: str) -> Path:
@@ -33,3 +34,15 @@ def ms_arg(text: str) -> int:
     if not MIN_MS <= value <= MAX_MS:
         raise argparse.ArgumentTypeError(f"{value} ms is outside {MIN_MS}..{MAX_MS}")
     return value
+
+
+def warn_if_over(anim, profile, path: Path, command: str) -> int:
+    """Exit status for a command that wrote a pattern: 1 with a one-line warning when the electrical
+    check finds anything over a limit (the pattern is still written: it may be edited down)."""
+    from ..exports.check import check_report
+    report = check_report(anim, profile)
+    if not list(report.violations):
+        return 0
+    sys.stderr.write(f"rowcast {command}: wrote {path}, but it is over a limit of profile {profile.name} "
+                     f"({report.violations[0]}); see rowcast check {path}\n")
+    return 1
