@@ -257,7 +257,8 @@ def test_progmem_places_tables_in_flash_on_avr(tmp_path, bench_profile):
 
 
 # -- names, prefixes and determinism -----------------------------------------------------------------
-@pytest.mark.parametrize("name", ["door sign", "9 lives", "int", "__x", "", "???/", "Grüße */ done", "a" * 99])
+@pytest.mark.parametrize("name", ["door sign", "9 lives", "int", "__x", "", "???/", "Grüße */ done", "a" * 99,
+                                  "9" * 60, "_" * 50 + "x"])
 def test_identifiers_from_any_name_are_valid_c(name):
     ident = c_identifier(name)
     assert check_prefix(ident) == ident     # the same rule the --prefix check applies (C99 6.4.2, 7.1.3)

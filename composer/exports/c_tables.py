@@ -41,20 +41,21 @@ _Bool _Complex _Imaginary _Alignas _Alignof _Atomic _Generic _Noreturn _Static_a
 bool true false alignas alignof nullptr static_assert thread_local typeof typeof_unqual constexpr
 """.split())
 _IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
-# C99 5.2.4.1: 31 significant initial characters in an external identifier; our longest suffix is
-# "_DURATIONS_MS" style, so a prefix of at most 40 keeps every name readable and unique in practice.
+# C99 5.2.4.1: 63 significant initial characters in a macro name or an internal identifier (the tables
+# are static); the longest suffix added is "_BYTES_PER_ROW" (14), so a prefix of at most 40 keeps every
+# name distinct on any conforming compiler.
 MAX_PREFIX = 40
 
 
 def c_identifier(name: str) -> str:
     """A valid, non-reserved C identifier from any pattern name (lower case, ``_`` between words)."""
     text = re.sub(r"[^A-Za-z0-9]+", "_", name.encode("ascii", "ignore").decode()).strip("_").lower()
-    text = text[:MAX_PREFIX].rstrip("_")
     if not text:
         text = "pattern"
     if text[0].isdigit():
         text = "p_" + text
-    if text in C_KEYWORDS or text.upper() in C_KEYWORDS:
+    text = text[:MAX_PREFIX].rstrip("_")
+    if text in C_KEYWORDS:
         text += "_pattern"
     return text
 
@@ -175,10 +176,15 @@ def c_header(anim: Animation, profile: Profile, report: Any, *, layout: str = "s
         st = _summary(stress_report)
         verdict = (f"{len(st.frames_over)} frame(s) over a limit" if st.frames_over else
                    "over a limit as a whole" if st.first_violations else "within every limit")
-        add(f" * At the {_comment_safe(str(getattr(stress_report, 'corner', 'stress')))} corner (top supply, lowest "
-            f"forward voltage): worst row {st.worst_row_ma:.1f} mA, {verdict}.")
+        corner = _comment_safe(str(getattr(stress_report, "corner", "stress")))
+        add(f" * At the {corner} corner (top supply, lowest forward voltage): worst row {st.worst_row_ma:.1f} mA, "
+            f"{verdict}.")
     add(" * The check is only as good as the profile: confirm currents against your parts' datasheets,")
     add(" * and keep the row scan running - a stalled scan leaves one row lit at the full peak current.")
+    stuck = np.flatnonzero(np.asarray(getattr(report, "stuck_scan", np.zeros(0)), bool))
+    if stuck.size:
+        add(f" * If the scan stalls, {stuck.size} frame(s) would hold a part over its continuous rating "
+            f"(first: frame {int(stuck[0])}): keep a watchdog on the scan.")
     add(" *")
     if layout == "shift":
         order = shift_order(profile)
