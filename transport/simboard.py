@@ -192,6 +192,7 @@ class Records:
     stalls: list[int] = field(default_factory=list)
     marks: dict[str, int] = field(default_factory=dict)
     isr: list[IsrStat] = field(default_factory=list)
+    busy: tuple[int, int, int] | None = None     # cycles in the scan handlers, window, outer entries
     end: int | None = None
 
     def oe_at(self, cycle: int) -> int:
@@ -226,6 +227,8 @@ def parse_records(lines: list[str] | str) -> Records:
         elif kind == "isr":
             v, n, lo, mean, hi, total, window = parts[1:8]
             recs.isr.append(IsrStat(int(v), int(n), int(lo), float(mean), int(hi), int(total), int(window)))
+        elif kind == "busy":
+            recs.busy = (int(parts[1]), int(parts[2]), int(parts[3]))
         elif kind == "end":
             recs.end = int(parts[1])
     recs.latch_cycles = np.array(cycles, np.int64)

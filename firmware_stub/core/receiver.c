@@ -130,9 +130,11 @@ static void configure(uint16_t seq, const uint8_t *b, uint16_t n)
     rc_scan.swap_req = 0;
     fill_idle(rc.buf_a);
     fill_idle(rc.buf_b);
-    /* Prime the shift stage with the last slot so the first tick latches an idle slot and moves on
-     * to slot 0. */
-    rc_scan.slot = (uint8_t)(rows - 1);
+    /* Prime the shift stage with an idle slot and mark the scan complete, so the first tick
+     * latches the idle slot and moves on to slot 0. */
+    rc_scan.size = (uint8_t)(rows * bpr);
+    rc_scan.end = rc_scan.front + rc_scan.size;
+    rc_scan.next = rc_scan.end;
     for (uint8_t i = 0; i < bpr; i++)
         board_spi_put(rc.xor_mask[i]);
     board_tick_start(period, blanking);
@@ -166,7 +168,10 @@ uint8_t rc_invariants_hold(void)
         return 1;
     if (rc_scan.rows < 1 || rc_scan.rows > RC_MAX_ROWS || rc_scan.bpr < 1 || rc_scan.bpr > RC_MAX_BYTES_PER_ROW)
         return 0;
-    if (rc_scan.slot >= rc_scan.rows || rc_scan.front == rc_scan.back)
+    if (rc_scan.front == rc_scan.back || rc_scan.size != rc_scan.rows * rc_scan.bpr)
+        return 0;
+    if (rc_scan.end != rc_scan.front + rc_scan.size || rc_scan.next < rc_scan.front || rc_scan.next > rc_scan.end ||
+        (rc_scan.next - rc_scan.front) % rc_scan.bpr != 0)
         return 0;
     if ((rc_scan.front != rc.buf_a && rc_scan.front != rc.buf_b) || (rc_scan.back != rc.buf_a && rc_scan.back != rc.buf_b))
         return 0;

@@ -25,8 +25,9 @@ typedef struct {
     volatile uint8_t show_req;      /* SHOW waiting for the end of the current full scan */
     volatile uint8_t swap_req;      /* ... and a fresh back buffer to swap in */
     volatile uint8_t outputs;       /* outputs switched on */
-    uint8_t slot;                   /* row slot now in the shift stage (latched at the next tick) */
-    uint8_t rows, bpr;
+    const uint8_t *next;            /* bytes of the slot to shift at the next tick (front + k * bpr) */
+    const uint8_t *end;             /* front + rows * bpr: the scan is complete when next gets here */
+    uint8_t rows, bpr, size;        /* size = rows * bpr */
     volatile uint16_t scans;        /* full scans completed (wraps) */
 } rc_scan_state;
 

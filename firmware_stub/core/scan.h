@@ -17,16 +17,15 @@ static inline void rc_scan_tick(void)
     board_latch();                  /* the slot shifted during the previous tick appears */
     board_unblank_later();
     board_watchdog_kick();
-    uint8_t slot = (uint8_t)(s->slot + 1);
-    uint8_t *src;
-    if (slot >= s->rows) {
-        slot = 0;
+    const uint8_t *src = s->next;
+    if (src == s->end) {            /* the slot just latched was the last: a full scan is complete */
         s->scans++;
         if (s->show_req) {
             if (s->swap_req) {
                 uint8_t *t = s->front;
                 s->front = s->back;
                 s->back = t;
+                s->end = s->front + s->size;
                 s->swap_req = 0;
             }
             s->show_req = 0;
@@ -34,14 +33,12 @@ static inline void rc_scan_tick(void)
             board_outputs(1);
         }
         src = s->front;
-    } else {
-        src = s->front + (uint8_t)(slot * s->bpr);
     }
-    s->slot = slot;
     uint8_t n = s->bpr;
     do {
         board_spi_put(*src++);
     } while (--n);
+    s->next = src;
 }
 
 #endif

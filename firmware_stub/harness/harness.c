@@ -11,6 +11,8 @@
  *   @rc stall <cycle>                       the row tick interrupt was switched off (command "stall")
  *   @rc mark <cycle> <text>                 command "mark <text>": a host-side event on the cycle axis
  *   @rc isr <vector> <count> <min> <mean> <max> <total> <window>   command "stats"
+ *   @rc busy <cycles> <window> <entries>    cycles inside either scan handler (nesting counted once)
+ *                                           and how many times one was entered from outside both
  *   @rc end <cycle>
  * Commands (one per line on stdin, with --commands): stall, mark TEXT, stats-reset, stats, quit,
  * and now (answers "@rc now <cycle>" on stdout whatever --records says).
@@ -77,7 +79,8 @@ struct isr_stat {
     uint64_t enter, count, total, min, max;
     int running;
 } stats[2] = {{VEC_TIMER1_COMPA, 0, 0, 0, UINT64_MAX, 0, 0}, {VEC_TIMER1_COMPB, 0, 0, 0, UINT64_MAX, 0, 0}};
-static uint64_t stats_from;
+static uint64_t stats_from, busy_total, busy_from, busy_entries;
+static int busy_depth;                  /* scan handlers running, nested ones included */
 
 static void isr_hook(struct avr_irq_t *irq, uint32_t value, void *param)
 {
@@ -86,7 +89,13 @@ static void isr_hook(struct avr_irq_t *irq, uint32_t value, void *param)
     if (value) {
         s->enter = avr->cycle;
         s->running = 1;
+        if (busy_depth++ == 0) {
+            busy_from = avr->cycle;
+            busy_entries++;
+        }
     } else if (s->running) {
+        if (--busy_depth == 0)
+            busy_total += avr->cycle - busy_from;
         uint64_t d = avr->cycle - s->enter;
         s->running = 0;
         s->count++;
@@ -104,6 +113,9 @@ static void stats_reset(void)
         stats[i].running = 0;
     }
     stats_from = avr->cycle;
+    busy_total = 0;
+    busy_entries = 0;
+    busy_depth = 0;
 }
 
 static void stats_print(void)
@@ -115,6 +127,8 @@ static void stats_print(void)
                 (unsigned long long)s->max, (unsigned long long)s->total,
                 (unsigned long long)(avr->cycle - stats_from));
     }
+    fprintf(rec, "@rc busy %llu %llu %llu\n", (unsigned long long)busy_total, (unsigned long long)(avr->cycle - stats_from),
+            (unsigned long long)busy_entries);
     fflush(rec);
 }
 

@@ -1,0 +1,121 @@
+"""Receiver firmware figures, measured in one run in simavr (cycles, not wall time).
+
+    python tests/bench/bench_firmware.py
+
+For the bench-8x8 profile (8 rows, 3 registers) at several row periods: cycles per row interrupt
+(min / mean / max, the end-of-blanking handler nested in it included), the row rate and full-frame
+refresh counted from the latch records, and the share of the CPU the scan takes; then flash and RAM
+from avr-size. Goals (issue 6): full-frame refresh >= 1250 Hz with the scan <= 12 % of the CPU
+(1250 Hz: the IEEE Std 1789-2015 low-risk boundary for 100 % modulation, from memory), flash <= 4 KB,
+RAM <= 512 bytes; stretch >= 3000 Hz.
+
+simavr's interrupt hook sees a handler from its vector jump to its RETI (the end-of-blanking handler
+measures 6 cycles: JMP 3 + SBIC 1 + CBI 2); the 4-cycle interrupt response and RETI's 4 cycles
+(ATmega328P datasheet, "Interrupt Response Time" and the instruction set summary, from memory) are
+added to every row-interrupt figure and to every entry from outside the scan handlers (a handler
+nested inside the row interrupt already lies inside its window).
+"""
+from __future__ import annotations
+
+import re
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+import serial
+
+ROOT = Path(__file__).resolve().parents[2]
+sys.path.insert(0, str(ROOT))
+
+from composer.profile import load_profile  # noqa: E402
+from composer.wiring import guard_masks, shift_bytes  # noqa: E402
+from transport import protocol as P  # noqa: E402
+from transport import simboard  # noqa: E402
+
+F = simboard.F_CPU
+HIDDEN_PER_ENTRY = 8            # response + RETI, see the module docstring
+GOAL_REFRESH_HZ, GOAL_CPU, GOAL_FLASH, GOAL_RAM, STRETCH_HZ = 1250.0, 0.12, 4096, 512, 3000.0
+
+
+def exchange(port: serial.Serial, msg, tries: int = 5) -> list:
+    """Send and wait for the answer; bytes sent before the firmware enabled its receiver are lost,
+    so the first message is retried (with a flush zero in front)."""
+    for _ in range(tries):
+        port.write(b"\x00" + P.encode(msg))
+        dec = P.StreamDecoder()
+        deadline = time.monotonic() + 1.0
+        while time.monotonic() < deadline:
+            got = dec.feed(port.read(max(1, port.in_waiting)))
+            if got:
+                return [P.decode_payload(g) for g in got]
+    raise RuntimeError(f"no answer to {msg}")
+
+
+def measure(build: Path, profile, row_period_us: int, tmp: Path) -> dict:
+    recs_path = tmp / f"rec-{row_period_us}.txt"
+    masks = guard_masks(profile)
+    frame = np.zeros((profile.rows, profile.cols), np.uint8)
+    frame[:, ::2] = 3                                       # a busy frame, within a limit of 8
+    with simboard.SimBoard.start(profile, build_dir=build, records=recs_path) as board:
+        with serial.serial_for_url(board.port, baudrate=115200, timeout=0.05) as port:
+            assert exchange(port, P.Identify(1))[0].version == 1
+            cfg = P.Configure(2, profile.rows, len(masks.xor), row_period_us, int(profile.scan.blanking_us),
+                              8, masks.xor, masks.count)
+            assert exchange(port, cfg) == [P.Ack(2)]
+            assert exchange(port, P.Frame(3, shift_bytes(frame, profile).tobytes())) == [P.Ack(3)]
+            board.wait_cycles(F // 100)
+            board.command("stats-reset")
+            board.mark("window")
+            board.wait_cycles(F // 10)                      # 100 ms simulated, no serial traffic
+            board.command("stats")
+            board.mark("window end")
+    recs = simboard.read_records(recs_path)
+    tick = next(s for s in recs.isr if s.vector == 11)
+    lo, hi = recs.marks["window"], recs.marks["window end"]
+    cyc = recs.latch_cycles[(recs.latch_cycles >= lo) & (recs.latch_cycles < hi)]
+    row_hz = round(F / float(np.mean(np.diff(cyc))), 1)     # 0.1 Hz: the timer divides the clock exactly
+    busy, window, entries = recs.busy
+    cpu = (busy + HIDDEN_PER_ENTRY * entries) / window
+    return dict(period=row_period_us, min=tick.min + HIDDEN_PER_ENTRY, mean=tick.mean + HIDDEN_PER_ENTRY,
+                max=tick.max + HIDDEN_PER_ENTRY, row_hz=row_hz, refresh=row_hz / profile.rows, cpu=cpu)
+
+
+def avr_size(elf: Path) -> tuple[int, int]:
+    out = subprocess.run(["avr-size", "-A", str(elf)], capture_output=True, text=True, check=True).stdout
+    sec = {m.group(1): int(m.group(2)) for m in re.finditer(r"^(\.\w+)\s+(\d+)", out, re.M)}
+    return sec.get(".text", 0) + sec.get(".data", 0), sec.get(".data", 0) + sec.get(".bss", 0) + sec.get(".noinit", 0)
+
+
+def main() -> int:
+    profile = load_profile("bench-8x8")
+    with tempfile.TemporaryDirectory() as tmpdir:
+        tmp = Path(tmpdir)
+        build = simboard.build(tmp / "build")
+        flash, ram = avr_size(simboard.firmware_path(build))
+        default = int(profile.scan.row_period_us)
+        periods = [default, int(1e6 / (GOAL_REFRESH_HZ * profile.rows)), int(1e6 / (STRETCH_HZ * profile.rows)), 20]
+        rows = [measure(build, profile, p, tmp) for p in dict.fromkeys(periods)]
+    print(f"receiver firmware, {profile.name} ({profile.rows} rows x {profile.n_registers} registers), "
+          f"ATmega328P-class core at {F / 1e6:g} MHz in simavr")
+    print(f"{'row period':>11} {'cycles/row irq min/mean/max':>28} {'row rate':>10} {'refresh':>10} {'scan CPU':>9}")
+    for r in rows:
+        print(f"{r['period']:>8} us {r['min']:>9.0f} {r['mean']:>8.1f} {r['max']:>8.0f}   {r['row_hz']:>8.0f} Hz "
+              f"{r['refresh']:>7.0f} Hz {100 * r['cpu']:>7.2f} %")
+    print(f"flash {flash} bytes (goal <= {GOAL_FLASH}: ratio {flash / GOAL_FLASH:.2f}); "
+          f"RAM {ram} bytes static (goal <= {GOAL_RAM}: ratio {ram / GOAL_RAM:.2f})")
+    ok_goal = [r for r in rows if r["refresh"] >= GOAL_REFRESH_HZ and r["cpu"] <= GOAL_CPU]
+    stretch = [r for r in rows if r["refresh"] >= STRETCH_HZ]
+    print(f"goal refresh >= {GOAL_REFRESH_HZ:g} Hz at <= {100 * GOAL_CPU:g} % CPU: "
+          + (f"met at {max(ok_goal, key=lambda r: r['refresh'])['refresh']:.0f} Hz "
+             f"({100 * max(ok_goal, key=lambda r: r['refresh'])['cpu']:.1f} % CPU)" if ok_goal else "NOT met"))
+    first = min(stretch, key=lambda r: r["refresh"]) if stretch else None
+    print(f"stretch refresh >= {STRETCH_HZ:g} Hz: " + (
+        f"reached: {first['refresh']:.0f} Hz at {100 * first['cpu']:.1f} % CPU" if first else "not reached"))
+    return 0 if ok_goal and flash <= GOAL_FLASH and ram <= GOAL_RAM else 1
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
