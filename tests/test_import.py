@@ -5,8 +5,11 @@ from __future__ import annotations
 
 import binascii
 import colorsys
+import io
 import struct
+import tempfile
 import zlib
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -51,6 +54,29 @@ def test_gif_from_known_frames_comes_back(tmp_path, profile_name, scale):
     assert np.array_equal(anim.frames, frames)
     assert anim.durations_ms.tolist() == durations
     assert anim.name == "known"
+
+
+@settings(max_examples=12, deadline=None)
+@given(st.sampled_from(["bench-8x8", "wide-16x8"]), st.integers(1, 5), st.integers(1, 4), st.data())
+def test_any_gif_of_panel_pixel_art_comes_back(profile_name, n, scale, data):
+    prof = load_profile(profile_name)
+    cells = data.draw(st.lists(st.integers(0, 3), min_size=n * prof.rows * prof.cols,
+                               max_size=n * prof.rows * prof.cols))
+    frames = np.array(cells, np.uint8).reshape(n, prof.rows, prof.cols)
+    # GIF89a delays are whole hundredths of a second
+    durations = [10 * d for d in data.draw(st.lists(st.integers(1, 500), min_size=n, max_size=n))]
+    buf = io.BytesIO()
+    images = _frames_to_images(frames, scale)
+    images[0].save(buf, "GIF", save_all=True, append_images=images[1:], duration=durations, loop=0)
+    with tempfile.TemporaryDirectory() as tmp:
+        path = Path(tmp) / "art.gif"
+        path.write_bytes(buf.getvalue())
+        anim = import_image(path, prof)
+    # pillow folds a frame equal to the one before into it (adding the delays); compare after folding
+    keep = [0] + [i for i in range(1, n) if not np.array_equal(frames[i], frames[i - 1])]
+    folded = [sum(durations[k:(keep + [n])[j + 1]]) for j, k in enumerate(keep)]
+    assert np.array_equal(anim.frames, frames[keep])
+    assert anim.durations_ms.tolist() == folded
 
 
 def test_fit_letterboxes_and_crop_cuts_evenly(tmp_path, bench_profile):

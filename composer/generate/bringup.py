@@ -93,6 +93,8 @@ def _check(steps: list[Step], profile: Profile):
 def bringup_animation(profile: Profile, *, step_ms: int = DEFAULT_STEP_MS, walk_ms: int = DEFAULT_WALK_MS,
                       profile_ref: str | None = None) -> Animation:
     rows, cols = profile.rows, profile.cols
+    if 1 + 4 * max(rows, cols) + rows * cols > MAX_FRAMES:
+        raise InputError(f"profile {profile.name}: a {rows}x{cols} panel needs over {MAX_FRAMES} wiring-test frames")
     steps = candidate_steps(rows, cols, step_ms, walk_ms)
     for _ in range(12):           # each round halves the failing steps; 2**12 LEDs is beyond any row
         report = _check(steps, profile)
