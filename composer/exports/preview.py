@@ -132,7 +132,7 @@ def png_sheet_bytes(anim: Animation, scale: int = DEFAULT_SCALE) -> bytes:
     scale = check_scale(scale)
     idx = _indices(anim.frames, scale)
     n, rows, cols = anim.frames.shape
-    font = ImageFont.load_default_imagefont()
+    font = getattr(ImageFont, "load_default_imagefont", ImageFont.load_default)()   # the bitmap font
     labels = [f"{i}  {int(ms)} ms" for i, ms in enumerate(anim.durations_ms)]
     label_w = int(max(font.getlength(t) for t in labels))
     if label_w > max(cols * scale, 48):          # long labels on small frames: frame numbers only

@@ -24,7 +24,9 @@ _ASCENDER_ROW = 2
 
 
 def _font() -> ImageFont.ImageFont:
-    return ImageFont.load_default_imagefont()
+    # pillow 10.1 made load_default() prefer a scalable font when FreeType is present; the bitmap
+    # font has its own loader since then (before 10.1, load_default() was the bitmap font).
+    return getattr(ImageFont, "load_default_imagefont", ImageFont.load_default)()
 
 
 def render_strip(message: str) -> np.ndarray:
