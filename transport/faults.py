@@ -86,21 +86,21 @@ class FaultInjector:
             return data, None
         arr = np.frombuffer(data, np.uint8).copy()
         n = arr.size
-        rng = self._rng
-        flip = rng.random(n) < f.flip
-        if flip.any():
-            arr[flip] ^= (np.uint8(1) << rng.integers(0, 8, int(flip.sum()), dtype=np.uint8))
-            self.counts.flipped += int(flip.sum())
-        keep = rng.random(n) >= f.drop
-        self.counts.dropped += int(n - keep.sum())
-        repeat = keep.astype(np.int64)
-        dup = (rng.random(n) < f.duplicate) & keep
-        repeat[dup] = 2
-        self.counts.duplicated += int(dup.sum())
-        out = np.repeat(arr, repeat)
+        u = self._rng.random((5, n))                       # one draw per byte per fault kind
+        flip = u[0] < f.flip
+        n_flip = int(np.count_nonzero(flip))
+        if n_flip:
+            arr[flip] ^= (np.uint8(1) << (u[1][flip] * 8).astype(np.uint8))
+            self.counts.flipped += n_flip
+        keep = u[2] >= f.drop
+        dup = (u[3] < f.duplicate) & keep
+        n_keep, n_dup = int(np.count_nonzero(keep)), int(np.count_nonzero(dup))
+        self.counts.dropped += n - n_keep
+        self.counts.duplicated += n_dup
+        out = np.repeat(arr, keep.astype(np.intp) + dup) if n_keep != n or n_dup else arr
         delayed_from = None
         if f.delay and out.size:
-            hits = np.nonzero(rng.random(out.size) < f.delay)[0]
+            hits = np.nonzero(u[4][:out.size] < f.delay)[0]
             if hits.size:
                 delayed_from = float(hits[0])
                 self.counts.delayed += int(out.size - hits[0])

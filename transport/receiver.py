@@ -62,11 +62,13 @@ class SimulatedReceiver:
 
     def __init__(self, profile: Profile | None = None, *, max_rows: int = MAX_ROWS,
                  max_bytes_per_row: int = MAX_BYTES_PER_ROW,
-                 on_display: Callable[[np.ndarray, int], None] | None = None) -> None:
+                 on_display: Callable[[np.ndarray, int], None] | None = None,
+                 on_show: Callable[[bytes, int], None] | None = None) -> None:
         self.profile = profile
         self.max_rows = max_rows
         self.max_bytes_per_row = max_bytes_per_row
-        self.on_display = on_display
+        self.on_display = on_display      # (decoded frame, seq) whenever what the panel shows changes
+        self.on_show = on_show            # (front buffer bytes, seq) on every swap: cheap, for long runs
         # The longest block worth buffering: a full FRAME at capacity, COBS-encoded.
         self.decoder = p.StreamDecoder(max_block=p.frame_wire_len(max_rows * max_bytes_per_row) - 1)
         self.counts = ReceiverCounts()
@@ -204,6 +206,8 @@ class SimulatedReceiver:
         self.front_seq = seq
         self.outputs_enabled = True
         self.counts.shown += 1
+        if self.on_show is not None:
+            self.on_show(self.front, -1 if seq is None else seq)
         self._notify()
 
     def _notify(self) -> None:
