@@ -5,5 +5,4 @@ from .json_export import export_json
 from .preview import frame_image, gif_bytes, gif_delays_ms, png_sheet_bytes
 
 __all__ = ["LAYOUTS", "c_header", "c_identifier", "check_prefix", "check_report", "export_json", "frame_image",
-           "gif_bytes",
-           "gif_delays_ms", "png_sheet_bytes"]
+           "gif_bytes", "gif_delays_ms", "png_sheet_bytes"]
