@@ -338,11 +338,14 @@ def test_cli_missing_folder_exit_2(tmp_path, capsys):
 FIRMWARE = Path(__file__).resolve().parent.parent / "firmware_stub"
 
 
-def _host_receiver(tmp: Path):
-    """Build the receiver core with its recording host board (firmware_stub/Makefile, target host)."""
+@pytest.fixture(scope="module")
+def host_receiver(tmp_path_factory):
+    """The receiver core with its recording host board (firmware_stub/Makefile, target host), built once."""
     import ctypes
+    need(FIRMWARE.joinpath("Makefile").is_file(), "firmware_stub/Makefile is not there")
     make = need_tool("make")
     need_tool("gcc")
+    tmp = tmp_path_factory.mktemp("fw")
     build = subprocess.run([make, "-s", "-C", str(FIRMWARE), "host", f"BUILD={tmp}"], capture_output=True, text=True)
     assert build.returncode == 0, build.stderr[-3000:]
     lib = ctypes.CDLL(str(tmp / "librc_host.so"))
@@ -384,10 +387,9 @@ def _shown_frame(lib, profile, ticks: int) -> np.ndarray:
 
 @pytest.mark.external
 @pytest.mark.parametrize("profile_name", ["bench-8x8", "cathode-8x8", "wide-16x8"])
-def test_c_export_in_the_receiver_host_build_lights_the_authored_leds(tmp_path, profile_name):
+def test_c_export_in_the_receiver_host_build_lights_the_authored_leds(tmp_path, host_receiver, profile_name):
     from transport import protocol as p
     from composer.wiring import guard_masks
-    need(FIRMWARE.joinpath("Makefile").is_file(), "firmware_stub/Makefile is not there")
     prof = load_profile(profile_name)
     rng = np.random.default_rng(len(profile_name))
     frames = rng.integers(0, 4, (4, prof.rows, prof.cols)).astype(np.uint8)
@@ -397,11 +399,10 @@ def test_c_export_in_the_receiver_host_build_lights_the_authored_leds(tmp_path, 
     anim = Animation(frames, [100] * 4, name="receiver check", profile=profile_name)
     header = c_header(anim, prof, check_report(anim, prof), progmem=True)
     (tmp_path / "c").mkdir()
-    (tmp_path / "fw").mkdir()
     table = compile_and_print(tmp_path / "c", [(header, anim.name, "shift", None)])[0]["data"]
     table = table.astype(np.uint8).reshape(anim.n_frames, prof.rows * prof.n_registers)
 
-    lib = _host_receiver(tmp_path / "fw")
+    lib = host_receiver
     lib.host_reset()
     masks = guard_masks(prof)
     lit_max = 2 * prof.cols                     # the receiver's own guard lets every LED of a row light
