@@ -8,7 +8,7 @@ Public API (the transport and the composer code against exactly these names)::
 """
 from __future__ import annotations
 
-from .analyse import analyse, firmware_lit_limit, guard
+from .engine import analyse, firmware_lit_limit, guard
 from .limits import RULES, Violation
 from .report import Report, Verdict
 from .solve import CORNERS

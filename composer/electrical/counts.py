@@ -13,7 +13,7 @@ import numpy as np
 
 from ..profile import COLOURS, Profile, Register
 
-__all__ = ["ColumnGroup", "column_groups", "lit_counts", "Counts"]
+__all__ = ["ColumnGroup", "column_groups", "lit_counts", "Counts", "per_register"]
 
 _PLANE_MASK = (np.uint64(0x0101010101010101), np.uint64(0x0202020202020202))
 
@@ -31,8 +31,14 @@ class ColumnGroup:
 
 @dataclass(frozen=True)
 class Counts:
-    n: np.ndarray                  # (F, rows, 2) lit LEDs of each colour per row
-    per_register: np.ndarray       # (F, rows, G) lit LEDs on each column register (groups order)
+    n: np.ndarray                  # (2, F, rows) lit LEDs of each colour per row (colour-major)
+    most_on_one: np.ndarray        # (2, F, rows) most lit LEDs of a colour on any one register
+
+
+def per_register(frames: np.ndarray, groups: tuple[ColumnGroup, ...]) -> np.ndarray:
+    """(F, rows, G) lit LEDs on each column register, groups order (to name the worst one)."""
+    lit = [(frames & (1 << k)) != 0 for k in range(2)]
+    return np.stack([lit[g.colour][..., g.cols].sum(axis=-1, dtype=np.int32) for g in groups], axis=-1)
 
 
 def column_groups(profile: Profile) -> tuple[ColumnGroup, ...]:
@@ -52,19 +58,38 @@ def lit_counts(frames: np.ndarray, groups: tuple[ColumnGroup, ...]) -> Counts:
     frames = np.ascontiguousarray(frames, dtype=np.uint8)
     f, rows, cols = frames.shape
     key = _group_index(groups)
+    small = np.uint8 if cols < 256 else np.uint16
     if cols % 8 == 0 and key is not None:
-        x = frames.view(np.uint64)                                       # (F, rows, cols/8)
-        planes = np.bitwise_count(x[None] & _MASKS)                      # (2, F, rows, blocks)
-        n = planes.sum(axis=-1, dtype=np.int32).transpose(1, 2, 0)         # (F, rows, 2)
-        per_reg = planes[key[0], :, :, key[1]].transpose(1, 2, 0)          # (F, rows, G)
-        return Counts(n, per_reg)
+        # every register is one aligned block of eight columns: count per block and colour
+        x = frames.view(np.uint64).reshape(f * rows, cols // 8)          # (F*rows, blocks)
+        n = np.empty((2, f * rows), small)
+        most = np.empty((2, f * rows), np.uint8)
+        step = _CHUNK_WORDS // max(cols // 8, 1) + 1                     # rows per cache-sized chunk
+        tmp = np.empty((min(step, f * rows), cols // 8), np.uint64)
+        for lo in range(0, f * rows, step):
+            hi = min(lo + step, f * rows)
+            t = tmp[: hi - lo]
+            for k in range(2):
+                np.bitwise_and(x[lo:hi], _PLANE_MASK[k], out=t)
+                per_block = np.bitwise_count(t)                          # (chunk, blocks) lit per register
+                # fold the few blocks with elementwise ops (faster than a reduction over a short axis)
+                acc = per_block[:, 0].astype(small)
+                top = per_block[:, 0].copy()
+                for b in range(1, per_block.shape[1]):
+                    acc += per_block[:, b]
+                    np.maximum(top, per_block[:, b], out=top)
+                n[k, lo:hi] = acc
+                most[k, lo:hi] = top
+        return Counts(n.reshape(2, f, rows), most.reshape(2, f, rows))
     lit = [(frames & (1 << k)) != 0 for k in range(2)]
-    n = np.stack([m.sum(axis=-1, dtype=np.int32) for m in lit], axis=-1)
-    per_reg = np.stack([lit[g.colour][..., g.cols].sum(axis=-1, dtype=np.int32) for g in groups], axis=-1)
-    return Counts(n, per_reg)
+    n = np.stack([m.sum(axis=-1, dtype=small) for m in lit])
+    regs = per_register(frames, groups)
+    colour = np.array([g.colour for g in groups])
+    most = np.stack([regs[..., colour == k].max(axis=-1, initial=0) for k in range(2)])
+    return Counts(n, most)
 
 
-_MASKS = np.array(_PLANE_MASK, dtype=np.uint64).reshape(2, 1, 1, 1)
+_CHUNK_WORDS = 16384   # 128 KiB of packed LEDs per step: temporaries stay in the CPU cache
 _INDEX_CACHE: dict[int, tuple[tuple[ColumnGroup, ...], tuple[np.ndarray, np.ndarray] | None]] = {}
 
 

@@ -5,7 +5,8 @@ With column resistors the worst row's currents are explicit: every LED at the ta
 row current ``2 * cols * target``, which fixes the driver's drop and so the row node; each colour's
 resistor is then ``(V_node - V_led(target)) / target - r_on``. With one resistor per row the LEDs
 share it, so the value is found by bisection (the brightest LED of the full row at the target).
-Values are rounded *up* to the series, so the current stays at or below the target.
+Values are rounded *up* to the series (and stepped further if the colours' coupling through the
+driver lifts one of them), so every LED of the full row stays at or below the target.
 """
 from __future__ import annotations
 
@@ -16,7 +17,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..profile import COLOURS, Profile, Resistors
-from .analyse import analyse
+from .engine import analyse
 from .preferred import round_up
 from .report import Report
 from .solve import circuit_for, solve_rows
@@ -96,9 +97,18 @@ def design_resistors(profile: Profile, target_ma: float, *, series: str = "E24",
             raise InputError(f"--target-ma {target_ma:g} mA is out of reach with every LED of a row lit: the "
                              f"supply cannot push that current through the {name} LEDs even with no resistor")
     chosen = {name: round_up(ohms, series) for name, ohms in exact.items()}
-    designed = with_resistors(profile, chosen)
-    circ = circuit_for(designed, "typ")
-    full = solve_rows(profile.cols, profile.cols, circ).i_led * 1e3
+    # The colours share the driver: rounding one colour up lowers the row's drop and lifts the
+    # other colour's current a little, so step any colour still over the target to the next value.
+    for _ in range(20):
+        designed = with_resistors(profile, chosen)
+        circ = circuit_for(designed, "typ")
+        full = solve_rows(profile.cols, profile.cols, circ).i_led * 1e3
+        over = [name for k, name in enumerate(chosen) if (full.max() if name == "row" else full[k])
+                > target_ma * (1 + 1e-9)]
+        if not over:
+            break
+        for name in over:
+            chosen[name] = round_up(chosen[name] * (1 + 1e-6), series)
     alone = [float(solve_rows(1 if k == 0 else 0, 1 if k == 1 else 0, circ).i_led[k]) * 1e3 for k in range(2)]
     checked_on = "the pattern"
     if frames is None:

@@ -45,6 +45,7 @@ AREA_THRESHOLD = 0.25          # WCAG 2.x: 0.006 sr, "25 % of any 10 degree visu
 RELATIVE_LUMINANCE = (0.0, 0.2126, 0.7152, 0.2126 + 0.7152)
 
 _M1 = np.uint64(0x0101010101010101)
+_CHUNK_WORDS = 16384   # 128 KiB of packed LEDs per step: temporaries stay in the CPU cache
 _M2 = np.uint64(0x0202020202020202)
 
 
@@ -62,19 +63,54 @@ def changed_fractions(frames: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     share of LEDs whose state changes, and the share that change into or out of red."""
     frames = np.ascontiguousarray(frames, dtype=np.uint8)
     n, rows, cols = frames.shape
-    nxt = np.roll(np.arange(n), -1)
     total = rows * cols
     if cols % 8 == 0:
-        x = frames.view(np.uint64)                               # 8 LEDs per word
-        d = x[nxt] ^ x
-        general = np.bitwise_count((d | (d >> np.uint64(1))) & _M1).sum(axis=(1, 2), dtype=np.int64)
-        red = x & ~(x >> np.uint64(1)) & _M1                     # bit 0 set and bit 1 clear
-        red_changed = np.bitwise_count(red[nxt] ^ red).sum(axis=(1, 2), dtype=np.int64)
+        x = frames.view(np.uint64).reshape(n, -1)                # 8 LEDs per word
+        words = x.shape[1]
+        general = np.empty(n)
+        red_changed = np.empty(n)
+        one = np.uint64(1)
+        step = max(1, _CHUNK_WORDS // words)                     # frames per cache-sized chunk
+        buf = np.empty((4, step + 1, words), np.uint64)
+        prev_red = None
+        for lo in range(0, n, step):
+            hi = min(lo + step, n)
+            a = x[lo:hi]                                         # frames lo..hi-1
+            red = buf[0, : hi - lo]
+            # red state: bit 0 set and bit 1 clear
+            np.right_shift(a, one, out=red)
+            np.bitwise_not(red, out=red)
+            np.bitwise_and(red, a, out=red)
+            np.bitwise_and(red, _M1, out=red)
+            if lo > 0:                                           # boundary lo-1 -> lo: previous chunk's last
+                general[lo - 1] = _changed_leds(x[lo - 1], x[lo], one)
+                red_changed[lo - 1] = np.bitwise_count(prev_red ^ red[0]).sum()
+            m = hi - lo - 1
+            if m > 0:
+                d, t = buf[1, :m], buf[2, :m]
+                np.bitwise_xor(a[1:], a[:-1], out=d)
+                np.right_shift(d, one, out=t)
+                np.bitwise_or(d, t, out=d)
+                np.bitwise_and(d, _M1, out=d)
+                general[lo:hi - 1] = np.bitwise_count(d).sum(axis=1, dtype=np.int64)
+                np.bitwise_xor(red[1:], red[:-1], out=d)
+                red_changed[lo:hi - 1] = np.bitwise_count(d).sum(axis=1, dtype=np.int64)
+            if lo == 0:
+                first_red = red[0].copy()
+            prev_red = red[hi - lo - 1].copy()
+        general[-1] = _changed_leds(x[-1], x[0], one)            # the loop back to the start
+        red_changed[-1] = np.bitwise_count(prev_red ^ first_red).sum()
     else:
+        nxt = np.roll(np.arange(n), -1)
         general = (frames[nxt] != frames).sum(axis=(1, 2))
         red = frames == 1
         red_changed = (red[nxt] != red).sum(axis=(1, 2))
     return general / total, red_changed / total
+
+
+def _changed_leds(a: np.ndarray, b: np.ndarray, one: np.uint64) -> int:
+    d = a ^ b
+    return int(np.bitwise_count((d | (d >> one)) & _M1).sum())
 
 
 def _windows(times_ms: np.ndarray, period_ms: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -91,11 +127,11 @@ def _windows(times_ms: np.ndarray, period_ms: float) -> tuple[np.ndarray, np.nda
     return index, starts, ends
 
 
-def _worst_flashes(changed: np.ndarray, share: np.ndarray, times: np.ndarray, period: float,
+def _worst_flashes(lazy: "_Lazy", which: int, share: np.ndarray, times: np.ndarray, period: float,
                    area: float) -> float:
     """Highest flash count (transitions / 2) that LEDs covering more than 25 % of the field reach
-    together in one window. ``changed``: (boundaries, LEDs) bool, ``share``: its row means."""
-    n_leds = changed.shape[1]
+    together in one window. ``lazy[which]``: (boundaries, LEDs) change masks, ``share``: their means."""
+    n_leds = lazy.n_leds
     need = int(math.floor(n_leds * AREA_THRESHOLD / area)) + 1   # LEDs needed to exceed the area
     if need > n_leds:
         return 0.0
@@ -106,7 +142,7 @@ def _worst_flashes(changed: np.ndarray, share: np.ndarray, times: np.ndarray, pe
         return float(np.floor(bound.max())) / 2.0
     hot = np.flatnonzero(bound >= 2 * MAX_FLASHES_PER_S + 1)
     per_led = np.zeros((index.size + 1, n_leds), dtype=np.int32)
-    np.cumsum(changed[index], axis=0, out=per_led[1:])
+    np.cumsum(lazy[which][index], axis=0, out=per_led[1:])
     counts = per_led[ends[hot]] - per_led[starts[hot]]        # (hot windows, LEDs)
     kth = np.partition(counts, n_leds - need, axis=1)[:, n_leds - need]
     return float(kth.max()) / 2.0
@@ -121,8 +157,8 @@ def flash_check(frames: np.ndarray, durations_ms: np.ndarray, profile: Profile) 
     times = np.cumsum(durations)                               # boundary k sits at the end of frame k
     period = float(times[-1])
     per_led = _per_led_changes(frames)
-    g = _worst_flashes(per_led[0], general, times, period, area)
-    r = _worst_flashes(per_led[1], red, times, period, area)
+    g = _worst_flashes(per_led, 0, general, times, period, area)
+    r = _worst_flashes(per_led, 1, red, times, period, area)
     worst = max(g, r)
     ok = worst <= MAX_FLASHES_PER_S
     if ok:
@@ -141,6 +177,7 @@ class _Lazy:
 
     def __init__(self, frames: np.ndarray) -> None:
         self.frames = frames
+        self.n_leds = frames.shape[1] * frames.shape[2]
         self._cache: dict[int, np.ndarray] = {}
 
     def __getitem__(self, k: int) -> np.ndarray:

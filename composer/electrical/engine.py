@@ -12,9 +12,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
-from ..model import check_frame_array
+from ..model import MAX_FRAMES, MAX_SIDE, check_frame_array
 from ..profile import COLOURS, Profile
-from .counts import ColumnGroup, column_groups, lit_counts
+from .counts import ColumnGroup, column_groups, lit_counts, per_register
 from .flash import flash_check
 from .limits import Limits, Violation, limits_for
 from .report import Report, Verdict
@@ -33,13 +33,13 @@ class _Prep:
     group_colour: np.ndarray      # (G,) colour index of each column register
     c1: int                       # cols + 1
     i_row_ma: np.ndarray          # flat tables indexed by n_red * c1 + n_green
-    i_led_ma: np.ndarray          # (c1*c1, 2)
+    i_led_ma: np.ndarray          # (2, c1*c1) per colour
     p_drv_w: np.ndarray           # instantaneous driver channel power
     pkg_onehot: np.ndarray        # (rows, packages)
     row_ok: np.ndarray            # (c1*c1, rows) every per-row rule holds for these counts in this row
-    pkg_max_lit: np.ndarray       # (c1*c1, 2) most outputs of one register of a colour that may be on
+    pkg_max_lit: np.ndarray       # (2, c1*c1) most outputs of one register of a colour that may be on
     row_power_w: np.ndarray       # (c1*c1,) driver channel power * duty (heating)
-    res_bound_w: np.ndarray       # (c1*c1, 2) per-row share of the column resistor bound (W)
+    res_bound_w: np.ndarray       # (2, c1*c1) per-row share of the column resistor bound (W)
 
 
 _CACHE: dict[tuple[int, str], tuple[Profile, _Prep]] = {}
@@ -71,8 +71,9 @@ def _prep(profile: Profile, corner: str) -> _Prep:
         pkg_max = np.where(i_led > 0, np.floor(limits.package_ma / np.where(i_led > 0, i_led, 1.0)), 1e9)
     r_col = np.array(table.circuit.column_r)
     prep = _Prep(table.circuit, timing, limits, groups, np.array([g.colour for g in groups], dtype=np.intp),
-                 profile.cols + 1, i_row, i_led, (table.v_driver * table.i_row).ravel(), onehot, row_ok,
-                 pkg_max, (table.v_driver * table.i_row).ravel() * d, (i_led * 1e-3) ** 2 * r_col * d)
+                 profile.cols + 1, i_row, np.ascontiguousarray(i_led.T), (table.v_driver * table.i_row).ravel(),
+                 onehot, row_ok, np.ascontiguousarray(pkg_max.T), (table.v_driver * table.i_row).ravel() * d,
+                 np.ascontiguousarray(((i_led * 1e-3) ** 2 * r_col * d).T))
     if len(_CACHE) > 32:
         _CACHE.pop(next(iter(_CACHE)))
     _CACHE[key] = (profile, prep)
@@ -81,7 +82,7 @@ def _prep(profile: Profile, corner: str) -> _Prep:
 
 def analyse(frames, durations_ms, profile: Profile, *, corner: str = "typ") -> Report:
     """Analyse ``(F, rows, cols)`` LED states shown for ``durations_ms`` (one per frame)."""
-    frames = check_frame_array(frames)
+    frames = _checked(frames)
     if frames.shape[1:] != (profile.rows, profile.cols):
         raise InputError(f"frames are {frames.shape[1]}x{frames.shape[2]} LEDs but profile {profile.name} is "
                          f"{profile.rows}x{profile.cols}")
@@ -89,6 +90,20 @@ def analyse(frames, durations_ms, profile: Profile, *, corner: str = "typ") -> R
     if durations.shape[0] != frames.shape[0]:
         raise InputError(f"{frames.shape[0]} frames but {durations.shape[0]} durations")
     return _evaluate(frames, durations, profile, corner, whole=True)
+
+
+_NOT_A_STATE = np.uint64(0xFCFCFCFCFCFCFCFC)
+
+
+def _checked(frames) -> np.ndarray:
+    """check_frame_array, with the value check done on packed words when the array allows it."""
+    a = np.asarray(frames)
+    if (a.dtype == np.uint8 and a.ndim == 3 and a.flags.c_contiguous and a.shape[2] % 8 == 0
+            and 1 <= a.shape[0] <= MAX_FRAMES and 0 < a.shape[1] <= MAX_SIDE and 0 < a.shape[2] <= MAX_SIDE):
+        if (a.view(np.uint64) & _NOT_A_STATE).any():
+            raise InputError("LED states must be 0 (off), 1 (red), 2 (green) or 3 (amber)")
+        return a
+    return check_frame_array(a)
 
 
 def guard(frame, profile: Profile) -> Verdict:
@@ -120,10 +135,10 @@ def _quick_ok(frames: np.ndarray, p: _Prep) -> bool:
     lim = p.limits
     counts = lit_counts(frames, p.groups)
     n = counts.n
-    idx = n[..., 0] * p.c1 + n[..., 1]                                  # (1, R)
+    idx = n[0].astype(np.intp) * p.c1 + n[1]                           # (1, R)
     if not p.row_ok[idx, np.arange(idx.shape[1])].all():
         return False
-    if (counts.per_register > p.pkg_max_lit[idx][..., p.group_colour]).any():
+    if (counts.most_on_one > p.pkg_max_lit[:, idx]).any():
         return False
     if p.i_row_ma[idx].sum() * p.timing.effective_duty > lim.supply_ma:
         return False
@@ -133,7 +148,7 @@ def _quick_ok(frames: np.ndarray, p: _Prep) -> bool:
         return bool(((p.i_row_ma[idx] * 1e-3) ** 2 * p.circuit.row_r * p.timing.effective_duty
                      <= lim.resistor_w[0]).all())
     # column resistors: the bound over lit rows; if it is near the rating take the exact path
-    return bool((p.res_bound_w[idx].sum(axis=1) <= 0.5 * lim.resistor_w).all())
+    return bool((p.res_bound_w[:, idx].sum(axis=2)[:, 0] <= 0.5 * lim.resistor_w).all())
 
 
 def firmware_lit_limit(profile: Profile) -> int:
@@ -146,7 +161,7 @@ def firmware_lit_limit(profile: Profile) -> int:
     n = np.arange(c1)
     nr, ng = np.meshgrid(n, n, indexing="ij")
     i_row = p.i_row_ma.reshape(c1, c1)
-    i_led = p.i_led_ma.reshape(c1, c1, 2)
+    i_led = np.moveaxis(p.i_led_ma.reshape(2, c1, c1), 0, -1)
     biggest = [max([len(g.cols) for g in p.groups if g.colour == k], default=0) for k in range(2)]
     pkg = np.maximum(np.minimum(nr, biggest[0]) * i_led[..., 0], np.minimum(ng, biggest[1]) * i_led[..., 1])
     ok = ((i_row <= lim.row_peak_ma.min()) & (i_row <= lim.supply_ma) & (pkg <= lim.package_ma)
@@ -163,10 +178,10 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
     lim, t, circ = p.limits, p.timing, p.circuit
     d = t.effective_duty
     counts = lit_counts(frames, p.groups)
-    n = counts.n                                              # (F, R, 2)
-    idx = n[..., 0] * p.c1 + n[..., 1]
+    n = counts.n                                              # (2, F, R)
+    idx = n[0].astype(np.intp) * p.c1 + n[1]
     row_ma = p.i_row_ma[idx]                                  # (F, R)
-    led_ma = p.i_led_ma[idx]                                  # (F, R, 2), 0 where that colour is unlit
+    led = p.i_led_ma[:, idx]                                  # (2, F, R), 0 where that colour is unlit
     f_count, rows = row_ma.shape
     fa = np.arange(f_count)
     worst_row = row_ma.argmax(axis=1)
@@ -187,8 +202,8 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
     checks.append(("row-driver-thermal", driver_tj, lim.tj_max_c, "C",
                    lambda f, k_i=k_i: _package_name(lim, int(k_i[f]))))
     # LED peak and average, per colour
-    led_max = led_ma.max(axis=1)                               # (F, 2)
-    led_row = led_ma.argmax(axis=1)
+    led_max = led.max(axis=2).T                                # (F, 2)
+    led_row = led.argmax(axis=2).T
     for rule, measured, limit in (("led-peak", led_max, lim.led_peak_ma),
                                   ("led-average", led_max * d, lim.led_average_ma)):
         c_i = (measured / limit).argmax(axis=1)
@@ -200,21 +215,20 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
     checks.append(("register-pin", pin_ma, lim.pin_ma, "mA",
                    lambda f: _pin_name(frames[f], p.groups, int(led_row[f, pin_c[f]]), int(pin_c[f]))))
     # register package: all its outputs in one row slot
-    pkg_ma = counts.per_register * led_ma[..., p.group_colour]   # (F, R, G)
-    flat = pkg_ma.reshape(f_count, -1)
-    g_i = flat.argmax(axis=1)
-    package_ma = flat[fa, g_i]
-    groups_n = len(p.groups)
+    pkg_ma = counts.most_on_one * led                         # (2, F, R)
+    pk = pkg_ma.max(axis=2)                                   # (2, F)
+    pk_row = pkg_ma.argmax(axis=2)
+    pk_c = pk.argmax(axis=0)
+    package_ma = pk[pk_c, fa]
     checks.append(("register-package", package_ma, lim.package_ma, "mA",
-                   lambda f: (f"{p.groups[g_i[f] % groups_n].register.name} in row {g_i[f] // groups_n} "
-                              f"({counts.per_register[f, g_i[f] // groups_n, g_i[f] % groups_n]} outputs on)")))
+                   lambda f: _package_where(frames[f], p.groups, int(pk_row[pk_c[f], f]), int(pk_c[f]))))
     # supply
     checks.append(("supply-peak", worst_row_ma, lim.supply_ma, "mA",
                    lambda f: f"supply while row {worst_row[f]} is on"))
     checks.append(("supply-average", supply_avg, lim.supply_ma, "mA",
                    lambda f: "supply, averaged over the scan"))
     # resistors
-    res_w, res_where = _resistor_power(frames, row_ma, led_ma, circ, lim, d)
+    res_w, res_where = _resistor_power(frames, row_ma, led, circ, lim, d)
     res_limit = lim.resistor_w[res_where[1]] if len(lim.resistor_w) > 1 else np.full(f_count, lim.resistor_w[0])
     checks.append(("resistor-power", res_w, res_limit, "W",
                    lambda f: _resistor_name(circ, res_where, f)))
@@ -234,7 +248,7 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
             violations.append(Violation(f, rule, where(f), float(measured[f]), float(limit[f]), unit))
     violations.sort(key=lambda v: v.frame)
 
-    stuck_parts = _stuck(row_ma, led_ma, p, circ, lim) if whole else {}
+    stuck_parts = _stuck(row_ma, led, p, circ, lim) if whole else {}
     stuck = np.zeros(f_count, dtype=bool)
     for mask in stuck_parts.values():
         stuck |= mask
@@ -250,10 +264,9 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
                 violations.append(Violation(None, rule, "whole panel", value, 3.0, "flashes/s"))
     if durations is None:
         durations = np.ones(f_count, dtype=np.int64)
-    n_lit = n > 0
-    led_min = np.where(n_lit, led_ma, np.inf).min(axis=1)
+    led_min = np.where(led > 0, led, np.inf).min(axis=2).T
     led_min = np.where(np.isfinite(led_min), led_min, np.nan)
-    led_max_nan = np.where(n_lit.any(axis=1), led_max, np.nan)
+    led_max_nan = np.where(led_max > 0, led_max, np.nan)
     return Report(
         profile=profile.name, corner=corner, durations_ms=durations, row_ma=row_ma, worst_row=worst_row,
         worst_row_ma=worst_row_ma, pin_ma_max=pin_ma, package_ma_max=package_ma, supply_peak_ma=worst_row_ma,
@@ -267,6 +280,12 @@ def _package_name(lim: Limits, k: int) -> str:
     return f"row driver package {k + 1} (rows {rows[0]}-{rows[-1]})"
 
 
+def _package_where(frame: np.ndarray, groups: tuple[ColumnGroup, ...], row: int, colour: int) -> str:
+    regs = per_register(frame[None], groups)[0, row]
+    best = max((g for g in range(len(groups)) if groups[g].colour == colour), key=lambda g: regs[g])
+    return f"{groups[best].register.name} in row {row} ({regs[best]} outputs on)"
+
+
 def _pin_name(frame: np.ndarray, groups: tuple[ColumnGroup, ...], row: int, colour: int) -> str:
     lit = np.flatnonzero(frame[row] & (1 << colour))
     for col in lit.tolist():
@@ -276,8 +295,9 @@ def _pin_name(frame: np.ndarray, groups: tuple[ColumnGroup, ...], row: int, colo
     return f"{COLOURS[colour]} column register, row {row}"
 
 
-def _resistor_power(frames, row_ma, led_ma, circ: Circuit, lim: Limits, d: float):
-    """Worst resistor dissipation per frame, and where: (watts (F,), (index (F,), colour (F,)))."""
+def _resistor_power(frames, row_ma, led, circ: Circuit, lim: Limits, d: float):
+    """Worst resistor dissipation per frame, and where: (watts (F,), (index (F,), colour (F,))).
+    ``led`` is (2, F, R) LED current in mA."""
     f_count = row_ma.shape[0]
     fa = np.arange(f_count)
     if circ.row_r > 0:                                          # one resistor per row
@@ -287,7 +307,8 @@ def _resistor_power(frames, row_ma, led_ma, circ: Circuit, lim: Limits, d: float
     r_col = np.array(circ.column_r)
     # Each column resistor carries at most one LED per row slot, so summing over the lit rows of a
     # colour bounds every column's dissipation; frames whose bound is near the rating are computed exactly.
-    bound = ((led_ma * 1e-3) ** 2).sum(axis=1) * r_col * d       # (F, 2)
+    sq = np.square(led * 1e-3)
+    bound = sq.sum(axis=2).T * r_col * d                        # (F, 2)
     c_i = (bound / lim.resistor_w).argmax(axis=1)
     w = bound[fa, c_i]
     col = np.full(f_count, -1, dtype=np.intp)
@@ -297,7 +318,7 @@ def _resistor_power(frames, row_ma, led_ma, circ: Circuit, lim: Limits, d: float
         where = np.zeros((near.size, 2), dtype=np.intp)
         for k in range(2):
             lit = (frames[near] & (1 << k)) != 0                  # (n, R, C)
-            per_col = ((led_ma[near, :, k, None] * 1e-3) ** 2 * lit).sum(axis=1) * r_col[k] * d
+            per_col = (sq[k, near, :, None] * lit).sum(axis=1) * r_col[k] * d
             exact[:, k] = per_col.max(axis=1)
             where[:, k] = per_col.argmax(axis=1)
         ck = (exact / lim.resistor_w).argmax(axis=1)
@@ -314,14 +335,17 @@ def _resistor_name(circ: Circuit, res_where, f: int) -> str:
     return f"{COLOURS[colour[f]]} column {index[f]} resistor"
 
 
-def _stuck(row_ma, led_ma, p: _Prep, circ: Circuit, lim: Limits) -> dict[str, np.ndarray]:
-    """If the scan stopped with one row latched on (100 % duty), which frames overload which part."""
-    out = {"led": (led_ma > lim.led_average_ma).any(axis=(1, 2))}
+def _stuck(row_ma, led, p: _Prep, circ: Circuit, lim: Limits) -> dict[str, np.ndarray]:
+    """If the scan stopped with one row latched on (100 % duty), which frames overload which part.
+    ``led`` is (2, F, R) mA."""
+    worst_led = led.max(axis=2)                                  # (2, F)
+    out = {"led": (worst_led > lim.led_average_ma[:, None]).any(axis=0)}
     # one driver channel on continuously: its power against the package's limit
-    i_a = row_ma * 1e-3
-    out["row-driver"] = (circ.driver.drop(i_a) * i_a > lim.package_power_w).any(axis=1)
+    i_a = row_ma.max(axis=1) * 1e-3
+    out["row-driver"] = circ.driver.drop(i_a) * i_a > lim.package_power_w
     if circ.row_r > 0:
-        out["resistor"] = (i_a ** 2 * circ.row_r > lim.resistor_w[0]).any(axis=1)
+        out["resistor"] = i_a ** 2 * circ.row_r > lim.resistor_w[0]
     else:
-        out["resistor"] = (((led_ma * 1e-3) ** 2 * np.array(circ.column_r)) > lim.resistor_w).any(axis=(1, 2))
+        out["resistor"] = ((worst_led * 1e-3) ** 2 * np.array(circ.column_r)[:, None]
+                           > lim.resistor_w[:, None]).any(axis=0)
     return out

@@ -1,0 +1,95 @@
+"""``rowcast check`` / ``rowcast spice`` end to end: text, documented JSON keys, exit codes."""
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from composer.cli import main
+from composer.model import Animation
+from composer.pattern_file import save_pattern
+
+ROOT = Path(__file__).resolve().parent.parent
+OVERLOAD = ROOT / "patterns" / "overload-sweep.rowcast.toml"
+
+
+def _pattern(tmp_path: Path, frames: np.ndarray, ms: int = 200, profile: str = "bench-8x8") -> Path:
+    path = tmp_path / "p.rowcast.toml"
+    save_pattern(Animation(frames, np.full(frames.shape[0], ms), name="t", profile=profile), path)
+    return path
+
+
+def test_quiet_pattern_passes(tmp_path, capsys):
+    frames = np.zeros((2, 8, 8), np.uint8)
+    frames[0, 0, 0] = 1
+    frames[1, 7, 7] = 2
+    assert main(["check", str(_pattern(tmp_path, frames))]) == 0
+    out = capsys.readouterr().out
+    assert "verdict: OK" in out and "refresh 1562.5 Hz" in out and "duty 12.50 %" in out
+    assert "flicker:" in out and "flash:" in out
+
+
+def test_overload_exits_1_and_names_the_part(capsys):
+    assert main(["check", str(OVERLOAD)]) == 1
+    out = capsys.readouterr().out
+    assert "register-package" in out and "U2 red in row" in out and "OVER" in out
+
+
+def test_json_has_the_documented_keys(capsys):
+    assert main(["check", str(OVERLOAD), "--json"]) == 1
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["format"] == "rowcast-check/1"
+    for key in ("refresh_hz", "duty", "supply_peak_ma", "supply_avg_ma", "flash", "flicker", "corner",
+                "frames_over", "worst_frame", "row_limit_ma", "stuck_scan", "corners", "ok"):
+        assert key in doc["summary"], key
+    frame = doc["frames"][0]
+    for key in ("index", "worst_row", "worst_row_ma", "violations", "pin_ma_max", "package_ma_max", "ms"):
+        assert key in frame, key
+    v = frame["violations"][0]
+    assert set(v) >= {"rule", "where", "measured", "limit", "unit"}
+    assert v["measured"] > v["limit"]
+    assert doc["summary"]["corner"] == "stress"
+    assert doc["summary"]["frames_over"]["register-package"] == len(
+        [f for f in doc["frames"] if any(x["rule"] == "register-package" for x in f["violations"])])
+
+
+def test_typ_corner_is_gentler(capsys):
+    main(["check", str(OVERLOAD), "--json", "--corner", "typ"])
+    typ = json.loads(capsys.readouterr().out)["summary"]["supply_peak_ma"]
+    main(["check", str(OVERLOAD), "--json"])
+    stress = json.loads(capsys.readouterr().out)["summary"]["supply_peak_ma"]
+    assert typ < stress
+
+
+@pytest.mark.parametrize("argv, needle", [
+    (["check", "missing.rowcast.toml"], "missing.rowcast.toml"),
+    (["check", str(OVERLOAD), "--profile", "bench-8x9"], "bench-8x8"),     # did you mean
+    (["check", str(OVERLOAD), "--corner", "hot"], "corner"),
+    (["spice", str(OVERLOAD), "--frame", "99"], "--frame 99"),
+    (["spice", str(OVERLOAD), "--frame", "0", "--row", "8"], "--row 8"),
+])
+def test_bad_input_is_one_line_and_exit_2(argv, needle, capsys):
+    with pytest.raises(SystemExit) as exc:
+        raise SystemExit(main(argv))
+    assert exc.value.code == 2
+    err = capsys.readouterr().err.strip()
+    assert needle in err and "\n" not in err and "Traceback" not in err
+
+
+def test_profile_that_cannot_work_is_exit_2(tmp_path, capsys):
+    text = (ROOT / "patterns" / "profiles" / "bench-8x8.toml").read_text().replace("voltage_v = 5.0",
+                                                                                    "voltage_v = 2.5")
+    prof = tmp_path / "low.toml"
+    prof.write_text(text)
+    frames = np.zeros((1, 8, 8), np.uint8)
+    assert main(["check", str(_pattern(tmp_path, frames)), "--profile", str(prof)]) == 2
+    assert "led.red.vf_typ_v" in capsys.readouterr().err
+
+
+def test_spice_defaults_to_the_worst_row(capsys):
+    assert main(["spice", str(OVERLOAD), "--frame", "3"]) == 0
+    out = capsys.readouterr().out
+    assert out.startswith("* rowcast:") and "row 3" in out.splitlines()[0] and ".end" in out
+    assert "quit 0" in out and "wrdata" in out
