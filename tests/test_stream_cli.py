@@ -1,0 +1,89 @@
+"""``rowcast stream`` and ``rowcast ports`` as a user meets them: progress, exit codes, one-line errors."""
+from __future__ import annotations
+
+import os
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+from composer.cli import main
+from transport.protocol_simrx import forget_receivers, receiver_named
+
+ROOT = Path(__file__).resolve().parent.parent
+PATTERNS = ROOT / "patterns"
+
+
+def run(capsys, *args: str) -> tuple[int, str, str]:
+    code = main(list(args))
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+def test_stream_plays_every_frame(capsys):
+    forget_receivers()
+    code, out, err = run(capsys, "stream", str(PATTERNS / "kettle-ready.rowcast.toml"),
+                         "--port", "simrx://bench-8x8?name=cli-kettle")
+    assert code == 0, err
+    lines = out.splitlines()
+    assert lines[0].startswith("frame 1/7 300 ms: shown (seq ")
+    assert lines[-1].startswith("played 7 frames in ") and "7 shown" in lines[-1]
+    assert "link: connected to simrx://bench-8x8" in err
+    rx = receiver_named("cli-kettle")
+    assert rx is not None and rx.counts.accepted == 7 and rx.displayed.any()
+
+
+def test_over_limit_pattern_sends_nothing_and_exits_1(capsys):
+    forget_receivers()
+    code, out, err = run(capsys, "stream", str(PATTERNS / "overload-sweep.rowcast.toml"),
+                         "--port", "simrx://bench-8x8?name=cli-overload")
+    assert code == 1
+    assert "frame 1: blocked by the guard: " in err and "nothing sent" in err
+    assert receiver_named("cli-overload") is None          # the port was never even opened
+    assert all("\n" not in line for line in err.splitlines())
+
+
+@pytest.mark.parametrize("args, code, words", [
+    (["--port", "/dev/no-such-port-rowcast"], 3, "no such port"),
+    (["--port", "loop://"], 3, "no receiver answered"),
+    (["--port", "simrx://bench-8x8", "--baud", "0"], 2, "--baud 0"),
+    (["--port", "simrx://bench-8x8", "--window", "0"], 2, "--window 0"),
+    (["--port", "simrx://bench-8x8", "--profile", "nope"], 2, "nope"),
+])
+def test_errors_are_one_line_with_their_exit_status(capsys, args, code, words):
+    got, out, err = run(capsys, "stream", str(PATTERNS / "kettle-ready.rowcast.toml"), *args)
+    assert got == code and words in err
+    assert len([l for l in err.splitlines() if l.startswith("rowcast")]) == 1 and "Traceback" not in err
+
+
+def test_missing_pattern_is_exit_2(capsys):
+    code, _, err = run(capsys, "stream", "no-such-pattern.toml", "--port", "simrx://bench-8x8")
+    assert code == 2 and "no-such-pattern.toml" in err
+
+
+def test_ports_lists_or_says_none(capsys):
+    code, out, _ = run(capsys, "ports")
+    assert code == 0 and out.strip()
+
+
+def test_ctrl_c_blanks_the_panel_and_exits_130():
+    """A real process and a real SIGINT, as a user's Ctrl-C: the loop stops, the panel is blanked."""
+    proc = subprocess.Popen([sys.executable, "-m", "composer", "stream", str(PATTERNS / "kettle-ready.rowcast.toml"),
+                             "--port", "simrx://bench-8x8", "--loop", "--quiet"], cwd=ROOT,
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    try:
+        deadline = time.monotonic() + 20
+        line = ""
+        while time.monotonic() < deadline and "connected" not in line:
+            line = proc.stderr.readline()
+        time.sleep(0.5)
+        proc.send_signal(signal.SIGINT)
+        out, err = proc.communicate(timeout=20)
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+    assert proc.returncode == 130, err
+    assert "stopped; panel blanked" in err and "Traceback" not in err
