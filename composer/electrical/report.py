@@ -120,6 +120,10 @@ class Report:
             "led_ma_range": {c: [_r(np.nanmin(self.led_ma_min[:, k], initial=np.inf)),
                                  _r(np.nanmax(self.led_ma_max[:, k], initial=-np.inf))]
                              for k, c in enumerate(("red", "green"))},
+            "led_uniformity": {c: _r(np.nanmin(self.led_ma_min[:, k], initial=np.inf)
+                                     / np.nanmax(self.led_ma_max[:, k], initial=-np.inf))
+                               if np.isfinite(self.led_ma_max[:, k]).any() else None
+                               for k, c in enumerate(("red", "green"))},
             "driver_tj_max_c": _r(self.driver_tj_c.max(), 2),
             "flicker": {"region": t.flicker_region, "text": t.flicker_text},
             "flash": None if flash is None else {
