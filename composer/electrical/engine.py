@@ -14,7 +14,7 @@ import numpy as np
 from ..errors import InputError
 from ..model import MAX_FRAMES, MAX_SIDE, check_frame_array
 from ..profile import COLOURS, Profile
-from .counts import ColumnGroup, column_groups, lit_counts, per_register
+from .counts import ColumnGroup, column_groups, lit_counts
 from .flash import flash_check
 from .limits import Limits, Violation, limits_for
 from .report import Report, Verdict
@@ -281,9 +281,9 @@ def _package_name(lim: Limits, k: int) -> str:
 
 
 def _package_where(frame: np.ndarray, groups: tuple[ColumnGroup, ...], row: int, colour: int) -> str:
-    regs = per_register(frame[None], groups)[0, row]
-    best = max((g for g in range(len(groups)) if groups[g].colour == colour), key=lambda g: regs[g])
-    return f"{groups[best].register.name} in row {row} ({regs[best]} outputs on)"
+    lit = (frame[row] & (1 << colour)) != 0
+    on, best = max((int(lit[g.cols].sum()), i) for i, g in enumerate(groups) if g.colour == colour)
+    return f"{groups[best].register.name} in row {row} ({on} outputs on)"
 
 
 def _pin_name(frame: np.ndarray, groups: tuple[ColumnGroup, ...], row: int, colour: int) -> str:
