@@ -38,6 +38,9 @@ def test_row_placement_designs_the_shared_resistor():
     assert set(d.chosen_ohm) == {"row"} and d.chosen_ohm["row"] >= d.exact_ohm["row"]
     assert max(d.full_row_ma.values()) <= 5.0 + 1e-9
     assert d.alone_ma["red"] > 2 * d.full_row_ma["red"]           # brightness depends on the count
+    # the closed-form exact value puts the brightest LED of a full row exactly at the target
+    s = solve_rows(prof.cols, prof.cols, circuit_for(with_resistors(prof, d.exact_ohm), "typ"))
+    assert float(s.i_led.max()) * 1e3 == pytest.approx(5.0, rel=1e-6)
 
 
 def test_unreachable_target_is_input_error():

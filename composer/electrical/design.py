@@ -17,6 +17,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..profile import COLOURS, Profile, Resistors
+from .diode import branch_current
 from .engine import analyse
 from .preferred import round_up
 from .report import Report
@@ -72,16 +73,20 @@ def _exact_column(profile: Profile, target_a: float) -> dict[str, float]:
 
 
 def _exact_row(profile: Profile, target_a: float) -> dict[str, float]:
-    def brightest(r_ohm: float) -> float:
-        circ = circuit_for(with_resistors(profile, {"row": r_ohm}), "typ")
-        return float(solve_rows(profile.cols, profile.cols, circ).i_led.max())
-    lo, hi = 1e-3, 1e6
-    if brightest(lo) < target_a:
-        return {"row": 0.0}
-    for _ in range(100):
-        mid = (lo * hi) ** 0.5
-        lo, hi = (mid, hi) if brightest(mid) > target_a else (lo, mid)
-    return {"row": hi}
+    """One resistor per row: the brightest LED of a full row at the target fixes the row node
+    (V = V_led(target) + target * r_on); the other colour's current follows from that node, and the
+    resistor takes what is left of the supply after the driver's drop at the row current."""
+    circ = circuit_for(profile, "typ")
+    r_on = profile.column_register.r_on_ohm
+    best = 0.0
+    for k in range(2):
+        v_node = float(circ.diodes[k].voltage(target_a)) + target_a * r_on
+        other = float(branch_current(circ.diodes[1 - k], r_on, v_node))
+        if other > target_a * (1 + 1e-9):
+            continue                                   # the other colour would be the brightest
+        i_row = profile.cols * (target_a + other)
+        best = (circ.supply_v - float(circ.driver.drop(i_row)) - v_node) / i_row
+    return {"row": best}
 
 
 def design_resistors(profile: Profile, target_ma: float, *, series: str = "E24",

@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
@@ -58,6 +59,7 @@ class Diode:
         return Diode(self.is_a * math.exp(-dv / self.nvt), self.n, self.rs_ohm)
 
 
+@lru_cache(maxsize=256)
 def fit_diode(led: Led, where: str) -> Diode:
     """Fit the typical curve of one colour; ``where`` ("led.red") names the key in errors."""
     pts = led.iv_points
