@@ -332,6 +332,8 @@ def test_frame_length_flags_and_not_configured(lib, bench):
     data = shift_bytes(authored(7, bench), bench).tobytes()
     assert rx.send(P.Frame(1, data)) == [P.Reject(1, P.Reason.NOT_CONFIGURED, 0)]
     assert rx.send(P.Show(2)) == [P.Reject(2, P.Reason.NOT_CONFIGURED, 0)]
+    assert rx.send(P.Blank(6)) == [P.Reject(6, P.Reason.NOT_CONFIGURED, 0)]
+    assert rx.send(P.Ping(7)) == [P.Ack(7)]
     rx.send(configure_msg(bench, seq=3))
     assert rx.send(P.Frame(4, data[:-1])) == [P.Reject(4, P.Reason.BAD_LENGTH, 0)]
     assert rx.send(P.Frame(5, data, flags=0x03)) == [P.Reject(5, P.Reason.BAD_FLAGS, 0x03)]

@@ -16,6 +16,7 @@ import numpy as np
 import pytest
 import serial
 
+from composer.electrical import firmware_lit_limit
 from composer.profile import load_profile
 from composer.wiring import decode_shift_bytes, guard_masks, shift_bytes
 from tests.conftest import need, need_tool
@@ -138,6 +139,8 @@ def test_bench_8x8_end_to_end(build_dir, tmp_path):
             assert raw_exchange(port, None, cut[: len(cut) // 2] + b"\x00", wait=0.5) == []
             ident = raw_exchange(port, P.Identify(904))
             assert ident[0].rx_dropped == 2 and ident[0].state == 3, ident
+            limit = ident[0].max_lit_per_row                # the guard the firmware says it enforces
+            assert limit == firmware_lit_limit(profile) == 5
             board.mark("faults done")
             # The host stops sending: the last frame keeps scanning.
             board.wait_cycles(30 * profile.rows * period)
@@ -175,7 +178,7 @@ def test_bench_8x8_end_to_end(build_dir, tmp_path):
 
     # 4. The firmware guard: no latched state ever has more lit dies than the configured limit,
     #    although frames over it were sent straight to the port.
-    assert lit_per_latch(recs, profile).max() <= link._limit
+    assert lit_per_latch(recs, profile).max() <= limit
     after_faults = scans_of(recs, profile, m["guard"], m["idle done"])
     assert after_faults and all(index_of(f, anim) == len(anim) - 1 for _, f, _ in after_faults)
 
@@ -185,7 +188,10 @@ def test_bench_8x8_end_to_end(build_dir, tmp_path):
     assert len(idle) >= 28
     cyc = recs.latch_cycles[(recs.latch_cycles >= m["faults done"]) & (recs.latch_cycles < m["idle done"])]
     steps = np.diff(cyc)
-    assert np.median(steps) == period and np.abs(steps - period).max() <= 8, (np.median(steps), steps.max())
+    # The timer divides the clock exactly, so the mean row period is exact; a single tick may wait
+    # for a serial handler finishing the last reply (about 40 cycles seen), never as long as 4 us.
+    assert np.median(steps) == period and abs(float(np.mean(steps)) - period) < 1.0, steps
+    assert np.abs(steps - period).max() <= 64, steps
     assert all(recs.oe_at(s + period // 2) == 1 for s, _, _ in idle)
 
     # 6. A scan stall: output-enable inactive within the watchdog period, and it stays so.
@@ -213,7 +219,7 @@ def test_wide_16x8_five_registers(build_dir, tmp_path):
     shown = [index_of(f, anim) for s, f, clean in scans_of(recs, profile, recs.marks["anim"], recs.marks["done"])
              if clean and recs.oe_at(s + period // 2)]
     assert collapse(shown) == [0, 1, 2]
-    assert lit_per_latch(recs, profile).max() <= link._limit
+    assert lit_per_latch(recs, profile).max() <= firmware_lit_limit(profile)
 
 
 def test_rowcast_sim_serves_rowcast_stream(build_dir, tmp_path):

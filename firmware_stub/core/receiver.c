@@ -254,18 +254,17 @@ static void handle(const uint8_t *p, uint16_t n)
     case RC_PING:
         ack(seq);
         return;
-    case RC_BLANK:
-        outputs_off();
-        ack(seq);
-        return;
     default:
         break;
     }
     if (!rc.configured) {
-        reject(seq, RC_NOT_CONFIGURED, 0);
+        reject(seq, RC_NOT_CONFIGURED, 0);  /* BLANK too: the outputs are off anyway (as transport/receiver.py) */
         return;
     }
-    if (type == RC_SHOW) {
+    if (type == RC_BLANK) {
+        outputs_off();
+        ack(seq);
+    } else if (type == RC_SHOW) {
         show();
         ack(seq);
     } else {
