@@ -1,7 +1,6 @@
 """``rowcast stream`` and ``rowcast ports`` as a user meets them: progress, exit codes, one-line errors."""
 from __future__ import annotations
 
-import os
 import signal
 import subprocess
 import sys

@@ -5,6 +5,7 @@ duplicated or delayed with the given probabilities, and :meth:`FaultInjector.cut
 stream after a number of bytes (mid-frame) until :meth:`FaultInjector.restore`. :class:`FaultyPort`
 wraps any pyserial-like port with one injector per direction; its :meth:`FaultyPort.cut` either
 swallows bytes silently (a broken wire) or raises like a port that disappeared (a pulled USB plug).
+:class:`PacedPort` is a slow line: writes no faster than a UART at a given baud rate.
 """
 from __future__ import annotations
 
@@ -15,7 +16,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import serial
 
-__all__ = ["Faults", "FaultCounts", "FaultInjector", "FaultyPort"]
+__all__ = ["Faults", "FaultCounts", "FaultInjector", "FaultyPort", "PacedPort"]
 
 
 @dataclass(frozen=True)
@@ -199,3 +200,33 @@ class FaultyPort:
             self._pending += out[cut:]
             self._release_at = time.monotonic() + self.rx.faults.delay_s
         return out[:cut]
+
+
+class PacedPort:
+    """A port whose writes go no faster than an 8N1 UART at ``baud`` carries them (10 bit times per
+    byte: start, 8 data, stop), behind a transmit buffer of ``buffer_bytes``.
+
+    A pseudo-terminal or an in-process port has no baud rate; wrapped in this, ``write`` blocks while
+    the buffer is full, exactly as a real port's write does, so the long-run rate of bytes handed on
+    can never exceed the line rate. Bytes are handed on when they enter the buffer, so replies may come
+    up to ``buffer_bytes`` of line time early; throughput is still capped at the line rate.
+    """
+
+    def __init__(self, inner, baud: int, buffer_bytes: int = 32) -> None:
+        self._inner = inner
+        self._byte_s = 10.0 / baud
+        self._buffer_s = buffer_bytes * self._byte_s
+        self._empty_at = 0.0                   # when the transmit buffer will have drained
+        self._lock = threading.Lock()
+
+    def __getattr__(self, name):
+        return getattr(self._inner, name)
+
+    def write(self, data: bytes) -> int:
+        with self._lock:
+            now = time.perf_counter()
+            self._empty_at = max(self._empty_at, now) + len(data) * self._byte_s
+            wait = self._empty_at - self._buffer_s - now
+        if wait > 0:
+            time.sleep(wait)
+        return self._inner.write(data)

@@ -93,35 +93,6 @@ def guard_frame(frame: np.ndarray, profile: Profile):
     return _electrical().guard(frame, profile)
 
 
-def reasons_of(verdict) -> tuple[str, ...]:
-    """One line per reason a verdict gives (see :func:`_reasons`)."""
-    return _reasons(verdict)
-
-
-class _GuardCache:
-    """The verdict is a pure function of (frame, profile); an animation repeats frames, so verdicts
-    are kept by frame content (bounded)."""
-
-    def __init__(self, profile: Profile, size: int = 512) -> None:
-        self.profile, self.size = profile, size
-        self._cache: OrderedDict[bytes, Any] = OrderedDict()
-        self._lock = threading.Lock()
-
-    def __call__(self, frame: np.ndarray):
-        key = frame.tobytes()
-        with self._lock:
-            hit = self._cache.get(key)
-            if hit is not None:
-                self._cache.move_to_end(key)
-                return hit
-        verdict = guard_frame(frame, self.profile)
-        with self._lock:
-            self._cache[key] = verdict
-            if len(self._cache) > self.size:
-                self._cache.popitem(last=False)
-        return verdict
-
-
 _FRAME_PREFIX = re.compile(r"^frame \d+: ")
 
 
@@ -129,6 +100,36 @@ def _reasons(verdict) -> tuple[str, ...]:
     """The verdict's reasons; the engine numbers frames within what it was given, which for one frame is
     always "frame 0", so that prefix is dropped here (the caller knows which frame it sent)."""
     return tuple(_FRAME_PREFIX.sub("", str(r)) for r in (getattr(verdict, "reasons", ()) or ()))
+
+
+def reasons_of(verdict) -> tuple[str, ...]:
+    """One line per reason a verdict gives, without the engine's "frame 0: " prefix."""
+    return _reasons(verdict)
+
+
+class _GateCache:
+    """What the gate decides is a pure function of (frame, profile): the verdict, and the slot bytes
+    when the frame may go. An animation repeats its frames, so results are kept by frame content
+    (bounded, least recently used out first)."""
+
+    def __init__(self, compute: Callable[[np.ndarray], tuple[Any, bytes | None]], size: int = 512) -> None:
+        self._compute, self.size = compute, size
+        self._cache: OrderedDict[bytes, tuple[Any, bytes | None]] = OrderedDict()
+        self._lock = threading.Lock()
+
+    def __call__(self, frame: np.ndarray) -> tuple[Any, bytes | None]:
+        key = frame.tobytes()
+        with self._lock:
+            hit = self._cache.get(key)
+            if hit is not None:
+                self._cache.move_to_end(key)
+                return hit
+        result = self._compute(frame)
+        with self._lock:
+            self._cache[key] = result
+            if len(self._cache) > self.size:
+                self._cache.popitem(last=False)
+        return result
 
 
 # -------------------------------------------------------------------------------------------------
@@ -292,7 +293,7 @@ class Link:
         if ack_timeout is None:
             ack_timeout = 0.1 + 2 * (window + 1) * line_time_s(wire, self.baud)
         self._window = Window(window, ack_timeout, retries)
-        self._guard = _GuardCache(profile)
+        self._gate_cache = _GateCache(self._decide)
         self._masks = guard_masks(profile)
         self._xor = np.frombuffer(self._masks.xor, np.uint8)
         self._count = np.frombuffer(self._masks.count, np.uint8)
@@ -307,7 +308,7 @@ class Link:
         self._connected = False
         self._closing = False
         self._thread: threading.Thread | None = None
-        self._live: tuple[np.ndarray, Any] | None = None
+        self._live: tuple[np.ndarray, Any, bytes] | None = None   # frame, verdict, slot bytes
         self._last_shown: np.ndarray | None = None    # restored on the panel after a reconnect
         self._last_rx = 0.0
         self._need_config = False
@@ -393,7 +394,7 @@ class Link:
         if data is None:
             return verdict
         with self._cv:
-            self._live = (frame.copy(), verdict)
+            self._live = (frame.copy(), verdict, data)
             self._cv.notify_all()
         return verdict
 
@@ -468,26 +469,31 @@ class Link:
                              f"{self.profile.rows}x{self.profile.cols}")
         return frame
 
-    def _gate(self, frame: np.ndarray, *, emit: bool = True) -> tuple[Any, bytes | None]:
+    def _decide(self, frame: np.ndarray) -> tuple[Any, bytes | None]:
         """The guard's verdict, and the frame's slot bytes when it may be sent (None when blocked).
 
         A frame the engine passes is also held to the receiver's own coarse count (the limit sent in
         CONFIGURE): the receiver would refuse it anyway, and saying so here names the row."""
-        verdict = self._guard(frame)
-        if verdict.ok:
-            slots = shift_bytes(frame, self.profile)
-            lit = np.unpackbits((slots ^ self._xor) & self._count, axis=-1).sum(axis=-1)
-            over = np.nonzero(lit > self._limit)[0]
-            if not over.size:
-                return verdict, slots.tobytes()
-            r = int(over[0])
-            why = (f"row slot {r} has {int(lit[r])} lit LEDs; the receiver's own guard for profile "
-                   f"{self.profile.name} allows {self._limit} per row")
-            verdict = type(verdict)(False, (why,), tuple(getattr(verdict, "violations", ())))
-        if emit:
+        verdict = guard_frame(frame, self.profile)
+        if not verdict.ok:
+            return verdict, None
+        slots = shift_bytes(frame, self.profile)
+        lit = np.unpackbits((slots ^ self._xor) & self._count, axis=-1).sum(axis=-1)
+        over = np.nonzero(lit > self._limit)[0]
+        if not over.size:
+            return verdict, slots.tobytes()
+        r = int(over[0])
+        why = (f"row slot {r} has {int(lit[r])} lit LEDs; the receiver's own guard for profile "
+               f"{self.profile.name} allows {self._limit} per row")
+        return type(verdict)(False, (why,), tuple(getattr(verdict, "violations", ()))), None
+
+    def _gate(self, frame: np.ndarray, *, emit: bool = True) -> tuple[Any, bytes | None]:
+        """Every frame passes here before it is encoded (see :meth:`_decide`)."""
+        verdict, data = self._gate_cache(frame)
+        if data is None and emit:
             self._emit("blocked", "frame blocked by the guard: " + "; ".join(_reasons(verdict)),
                        reasons=_reasons(verdict))
-        return verdict, None
+        return verdict, data
 
     def _next_seq(self) -> int:
         seq, self._seq = self._seq, (self._seq + 1) & 0xFFFF
@@ -609,10 +615,9 @@ class Link:
                 finished += failed
                 live = None
                 if self._live is not None and self._window.has_room and not self._need_config:
-                    frame, verdict = self._live
+                    frame, verdict, data_bytes = self._live
                     self._live = None
                     seq = self._next_seq()
-                    data_bytes = shift_bytes(frame, self.profile).tobytes()
                     live = Pending(seq, p.encode(p.Frame(seq, data_bytes, p.SHOW_AFTER)), True, verdict=verdict,
                                    frame=frame)
                     self._window.add(live, now)
@@ -725,7 +730,7 @@ class Link:
             verdict, data = self._gate(self._last_shown, emit=False)
             if data is not None:
                 with self._cv:
-                    self._live = (self._last_shown, verdict)
+                    self._live = (self._last_shown, verdict, data)
 
     # -- handshake (runs with exclusive use of the port) -----------------------------------------
     def _request(self, port, msg: p.Message, want: type, tries: int = 3) -> p.Message:
