@@ -293,6 +293,22 @@ def test_duplicate_seq_is_acked_not_stored(lib, bench):
     assert bytes(shift_bytes(b, bench)[0]) not in rx.latched(3)
 
 
+def test_show_then_frame_does_not_show_the_frame(lib, bench):
+    rx = Rx(lib)
+    rx.send(configure_msg(bench))
+    a, b = authored(10, bench), authored(11, bench)
+    rx.send(P.Frame(2, shift_bytes(a, bench).tobytes()))
+    rx.tick(8 * 2)
+    assert rx.send(P.Show(3)) == [P.Ack(3)]           # nothing new to show: a's scan continues
+    assert rx.send(P.Frame(4, shift_bytes(b, bench).tobytes(), flags=0)) == [P.Ack(4)]
+    rx.events()
+    rx.tick(8 * 3)
+    assert bytes(shift_bytes(b, bench)[0]) not in rx.latched(3)
+    assert rx.send(P.Show(5)) == [P.Ack(5)]
+    rx.tick(8 * 2)
+    assert bytes(shift_bytes(b, bench)[0]) in rx.latched(3)
+
+
 def test_blank_and_show_drive_output_enable(lib, bench):
     rx = Rx(lib)
     assert lib.host_oe() == 0

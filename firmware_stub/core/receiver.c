@@ -206,9 +206,10 @@ static void frame(uint16_t seq, const uint8_t *b, uint16_t n)
         reject(seq, RC_GUARD, over);
         return;
     }
-    /* The back buffer may still be waiting to be swapped in; never write it before the swap
-     * (at most one full scan away), or the panel would show a half-written frame. */
-    while (rc_scan.show_req && rc_scan.swap_req)
+    /* A SHOW may still be waiting for the end of the scan; never write the back buffer before it
+     * has been served (at most one full scan away), or the panel would show a half-written frame,
+     * or this frame under an earlier SHOW. */
+    while (rc_scan.show_req)
         board_wait_for_tick();
     memcpy(rc_scan.back, b + 1, size);
     board_critical_enter();
