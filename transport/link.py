@@ -348,7 +348,7 @@ class Link:
         self._thread.start()
         ident = self.identity
         self._emit("connected", f"connected to {self.url}: receiver speaks protocol {ident.version}, "
-                   f"{ident.max_rows} rows x {ident.max_bytes_per_row} bytes, guard {self._limit} lit per row")
+                   f"{ident.max_rows} rows x {ident.max_bytes_per_row} bytes; receiver guard {self._limit} lit LEDs per row")
         return self
 
     def close(self) -> None:
@@ -759,7 +759,7 @@ class Link:
                         f"({tries} tries, {self.handshake_timeout:g} s each; is the firmware running and the baud rate "
                         f"{self.baud}?)")
 
-    def _handshake(self, port, tries: int = 3) -> None:
+    def _handshake(self, port, tries: int = 5) -> None:
         prof = self.profile
         with self._cv:
             seq = self._next_seq()
@@ -775,7 +775,7 @@ class Link:
             seq = self._next_seq()
         cfg = p.Configure(seq, prof.rows, prof.n_registers, int(round(prof.scan.row_period_us)),
                           int(round(prof.scan.blanking_us)), self._limit, self._masks.xor, self._masks.count)
-        reply = self._request(port, cfg, p.Ack, max(tries, 3))
+        reply = self._request(port, cfg, p.Ack, max(tries, 5))
         if isinstance(reply, p.Reject):
             raise LinkError(f"{self.url}: receiver refused the configuration of profile {prof.name}: {reply.text()}")
         self.identity = p.Identity(ident.seq, ident.version, ident.max_rows, ident.max_bytes_per_row,
