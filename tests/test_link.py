@@ -16,30 +16,16 @@ from composer.model import Animation
 from composer.profile import bundled_profiles, load_profile
 from composer.wiring import frame_from_shift_bytes
 from transport import EVENT_KINDS, Link, LinkEvent, SimulatedReceiver, list_ports, protocol as p
-from transport.faults import FaultyPort
+from transport.faults import FaultyPort, RecordingPort
 from transport.link import open_port
 
 PROFILES = {name: load_profile(name) for name in bundled_profiles()}
 STREAMABLE = sorted(n for n, prof in PROFILES.items() if firmware_lit_limit(prof) >= 1)
 
 
-class Recorder:
-    """A port wrapper keeping every byte the host writes."""
-
-    def __init__(self, inner) -> None:
-        self._inner, self.written = inner, bytearray()
-
-    def write(self, data):
-        self.written += data
-        return self._inner.write(data)
-
-    def __getattr__(self, name):
-        return getattr(self._inner, name)
-
-
 def recording_opener(store: list):
     def opener(url, baud):
-        store.append(Recorder(open_port(url, baud)))
+        store.append(RecordingPort(open_port(url, baud)))
         return store[-1]
     return opener
 
@@ -213,12 +199,14 @@ def test_receiver_reset_is_reconfigured(bench_link):
 
 
 def test_garbage_from_the_device_is_counted_not_raised(bench_link):
-    link, _ = bench_link
+    link, events = bench_link
     port = link.port
     with port._cv:                               # noise arrives from the device side
         port._buf += bytes(range(1, 200)) + b"\x00\x07\x07\x00" + p.encode(p.Reject(999, 0x55, 1))
     time.sleep(0.1)
     assert link.decoder.counts.dropped >= 2 and link.stats.stray_replies >= 1
+    reports = [e for e in events if e.kind == "error" and "bad blocks from the receiver" in e.message]
+    assert reports and "\n" not in reports[0].message
     frame = np.zeros((8, 8), np.uint8)
     assert link.send_frame(frame).acked
 

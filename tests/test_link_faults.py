@@ -24,6 +24,8 @@ from transport.faults import Faults, FaultInjector, FaultyPort
 from transport.link import Pending, Window, open_port
 from transport.receiver import SimulatedReceiver
 
+from test_link import recording_opener, wire_frames
+
 PROFILE = load_profile("bench-8x8")
 
 
@@ -122,46 +124,18 @@ def test_window_of_four_supersedes_instead_of_going_backwards():
 # ---------------------------------------------------------------------------------------------------------------
 # The threaded link with faults
 # ---------------------------------------------------------------------------------------------------------------
-class _Recorder:
-    """A port wrapper that keeps every byte the host writes."""
-
-    def __init__(self, inner) -> None:
-        self._inner, self.written = inner, bytearray()
-
-    def write(self, data):
-        self.written += data
-        return self._inner.write(data)
-
-    def __getattr__(self, name):
-        return getattr(self._inner, name)
-
-
-def frames_on_wire(written: bytes) -> dict[int, bytes]:
-    """seq -> slot bytes of every FRAME the host put on the wire (decoded with the codec)."""
-    out = {}
-    for payload in p.StreamDecoder().feed(bytes(written)):
-        msg = p.decode_payload(payload)
-        if isinstance(msg, p.Frame):
-            out[msg.seq] = msg.data
-    return out
-
-
 def test_threaded_link_over_faulty_simrx_port():
-    ports: list[_Recorder] = []
-
-    def opener(url, baud):
-        ports.append(_Recorder(open_port(url, baud)))
-        return ports[-1]
+    ports: list = []
 
     shown = []
     anim = Animation(frames=_safe_frames(400, seed=21), durations_ms=[10] * 400, name="noise")
     link = Link("simrx://bench-8x8?flip=0.005&drop=0.005&seed=9", PROFILE, window=1, ack_timeout=0.01, retries=6,
-                opener=opener)
+                opener=recording_opener(ports))
     with link:
         link.receiver.on_show = lambda data, seq: shown.append((data, seq))
         report = link.play(anim, paced=False)
     assert report.acked / report.frames >= 0.99, report
-    sent = frames_on_wire(b"".join(bytes(r.written) for r in ports))
+    sent = {msg.seq: msg.data for msg in wire_frames(ports)}
     # 0 corrupted frames accepted: what the receiver showed under a seq is what the host sent under it.
     assert shown and all(data == sent[seq] for data, seq in shown if seq >= 0)
     assert link.stats.retransmits > 0
@@ -239,3 +213,53 @@ def test_wire_cut_mid_frame_restored_resumes_within_2_s():
         th.join(5)
         link.close()
     assert not th.is_alive()
+
+
+# ---------------------------------------------------------------------------------------------------------------
+# The injector itself
+# ---------------------------------------------------------------------------------------------------------------
+def test_injector_rates_match_what_was_asked():
+    """Per-byte drop/flip/duplicate are Bernoulli draws: over 200,000 bytes each count is within 5 binomial
+    standard deviations of rate x n (common practice for a seeded check)."""
+    n, rate = 200_000, 0.01
+    inj = FaultInjector(Faults(drop=rate, flip=rate, duplicate=rate, seed=42))
+    data = bytes(range(1, 201)) * (n // 200)
+    out = inj.apply(data)
+    sd = (n * rate * (1 - rate)) ** 0.5
+    for count in (inj.counts.dropped, inj.counts.flipped, inj.counts.duplicated):
+        assert abs(count - n * rate) < 5 * sd
+    assert len(out) == n - inj.counts.dropped + inj.counts.duplicated
+
+
+def test_flip_changes_exactly_one_bit():
+    inj = FaultInjector(Faults(flip=1.0, seed=1))
+    data = bytes(range(256))
+    out = inj.apply(data)
+    assert all(bin(a ^ b).count("1") == 1 for a, b in zip(data, out))
+
+
+def test_cut_after_lets_exactly_n_bytes_through_until_restored():
+    inj = FaultInjector()
+    inj.cut_after(12)
+    assert inj.apply(bytes(10)) == bytes(10)
+    assert inj.apply(bytes(range(1, 11))) == bytes((1, 2))
+    assert inj.apply(b"more") == b"" and inj.is_cut
+    inj.restore()
+    assert inj.apply(b"back") == b"back"
+
+
+def test_paced_port_keeps_to_the_line_rate():
+    """10 bit times per byte on an 8N1 line: 2,000 bytes at 200,000 baud take at least 0.1 s minus the
+    64-byte buffer."""
+    from transport.faults import PacedPort
+
+    class Sink:
+        def write(self, data):
+            return len(data)
+
+    port = PacedPort(Sink(), 200_000, buffer_bytes=64)
+    t0 = time.perf_counter()
+    for _ in range(100):
+        port.write(bytes(20))
+    elapsed = time.perf_counter() - t0
+    assert elapsed >= (2000 - 64) * 10 / 200_000

@@ -16,7 +16,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import serial
 
-__all__ = ["Faults", "FaultCounts", "FaultInjector", "FaultyPort", "PacedPort"]
+__all__ = ["Faults", "FaultCounts", "FaultInjector", "FaultyPort", "PacedPort", "RecordingPort"]
 
 
 @dataclass(frozen=True)
@@ -229,4 +229,20 @@ class PacedPort:
             wait = self._empty_at - self._buffer_s - now
         if wait > 0:
             time.sleep(wait)
+        return self._inner.write(data)
+
+
+class RecordingPort:
+    """A port that keeps a copy of every byte the host writes (``written``), for tests that must see
+    exactly what went onto the wire."""
+
+    def __init__(self, inner) -> None:
+        self._inner = inner
+        self.written = bytearray()
+
+    def __getattr__(self, name):
+        return getattr(self._inner, name)
+
+    def write(self, data: bytes) -> int:
+        self.written += data
         return self._inner.write(data)

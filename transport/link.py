@@ -312,6 +312,7 @@ class Link:
         self._last_shown: np.ndarray | None = None    # restored on the panel after a reconnect
         self._last_rx = 0.0
         self._need_config = False
+        self._bad_reported, self._bad_reported_at = 0, 0.0
 
     # -- public ---------------------------------------------------------------------------------
     @property
@@ -608,6 +609,7 @@ class Link:
                 for payload in self.decoder.feed(data):
                     finished += self._on_payload(payload)
             now = time.monotonic()
+            self._report_bad_blocks(now)
             resend: list[Pending] = []
             with self._cv:
                 more, failed = self._window.overdue(now)
@@ -636,6 +638,17 @@ class Link:
                 self._lost("the receiver stopped answering", port_gone=False)
             elif self._need_config and not len(self._window):
                 self._reconfigure()
+
+    def _report_bad_blocks(self, now: float) -> None:
+        """Garbage, truncated or oversized blocks from the device are counted, and reported as an
+        "error" event at most once a second (a noisy line must not flood the caller)."""
+        bad = self.decoder.counts.dropped + self.stats.unexpected
+        if bad > self._bad_reported and now - self._bad_reported_at >= 1.0:
+            c = self.decoder.counts
+            self._emit("error", f"{bad - self._bad_reported} bad blocks from the receiver dropped (so far: "
+                       f"{c.bad_crc} bad CRC, {c.bad_cobs} bad COBS, {c.too_short} too short, {c.oversized} too long, "
+                       f"{self.stats.unexpected} not a reply)")
+            self._bad_reported, self._bad_reported_at = bad, now
 
     def _on_payload(self, payload: bytes) -> list[Pending]:
         try:

@@ -77,6 +77,10 @@ def run(args: argparse.Namespace) -> int:
         print("stopped" + ("; panel blanked" if blanked is not None and blanked.acked else ""), file=sys.stderr)
         return 130
     link.close()
+    st = link.stats
+    if st.retransmits or link.decoder.counts.dropped or st.reconnects:
+        print(f"link: {st.retransmits} messages sent again, {link.decoder.counts.dropped} bad blocks from the receiver "
+              f"dropped, {st.reconnects} reconnects", file=sys.stderr)
     print(f"played {report.frames} frames in {report.elapsed_s:.2f} s: {report.acked} shown, "
           f"{report.rejected} rejected, {report.failed} not answered, {report.skipped} skipped while the link was down")
     if report.rejected or report.blocked:
