@@ -150,6 +150,7 @@ def test_bench_8x8_end_to_end(build_dir, tmp_path):
         board.mark("end")
     recs = read_records(recs_path)
     m = recs.marks
+    assert recs.spi_collisions == 0                 # no SPDR write while a byte was still shifting
 
     # 1. Every authored frame shown exactly, in order, in whole clean scans; nothing else shown
     #    while the outputs were on.
@@ -215,7 +216,7 @@ def test_wide_16x8_five_registers(build_dir, tmp_path):
             board.wait_cycles(3 * profile.rows * period)
             board.mark("done")
     recs = read_records(recs_path)
-    assert recs.latch_bytes.shape[1] == 5
+    assert recs.latch_bytes.shape[1] == 5 and recs.spi_collisions == 0
     shown = [index_of(f, anim) for s, f, clean in scans_of(recs, profile, recs.marks["anim"], recs.marks["done"])
              if clean and recs.oe_at(s + period // 2)]
     assert collapse(shown) == [0, 1, 2]

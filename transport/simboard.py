@@ -193,6 +193,7 @@ class Records:
     marks: dict[str, int] = field(default_factory=dict)
     isr: list[IsrStat] = field(default_factory=list)
     busy: tuple[int, int, int] | None = None     # cycles in the scan handlers, window, outer entries
+    spi_collisions: int | None = None      # SPDR writes the simulated SPI refused (WCOL)
     end: int | None = None
 
     def oe_at(self, cycle: int) -> int:
@@ -229,6 +230,8 @@ def parse_records(lines: list[str] | str) -> Records:
             recs.isr.append(IsrStat(int(v), int(n), int(lo), float(mean), int(hi), int(total), int(window)))
         elif kind == "busy":
             recs.busy = (int(parts[1]), int(parts[2]), int(parts[3]))
+        elif kind == "spi-collisions":
+            recs.spi_collisions = int(parts[1])
         elif kind == "end":
             recs.end = int(parts[1])
     recs.latch_cycles = np.array(cycles, np.int64)

@@ -7,6 +7,9 @@
  *   int16_t board_serial_get(void);      next received byte, or -1 when none is waiting
  *   void board_serial_put(uint8_t b);    queue one byte for sending (may wait for room)
  *   void board_spi_put(uint8_t b);       shift one byte into the register chain, return when done
+ *   void board_spi_put_slot(const uint8_t *src, uint8_t n);
+ *                                        shift n >= 1 bytes in order; the last one may still be
+ *                                        shifting on return (it is done long before the next latch)
  *   void board_latch(void);              pulse the storage-register clock (high, then low)
  *   void board_blank(void);              output-enable inactive now (start of a row)
  *   void board_unblank_later(void);      output-enable may go active once the blanking time has

@@ -34,11 +34,8 @@ static inline void rc_scan_tick(void)
         }
         src = s->front;
     }
-    uint8_t n = s->bpr;
-    do {
-        board_spi_put(*src++);
-    } while (--n);
-    s->next = src;
+    s->next = src + s->bpr;
+    board_spi_put_slot(src, s->bpr);
 }
 
 #endif

@@ -13,13 +13,15 @@
  *   @rc isr <vector> <count> <min> <mean> <max> <total> <window>   command "stats"
  *   @rc busy <cycles> <window> <entries>    cycles inside either scan handler (nesting counted once)
  *                                           and how many times one was entered from outside both
+ *   @rc spi-collisions <n>                  SPDR writes refused because a byte was still shifting (WCOL)
  *   @rc end <cycle>
  * Commands (one per line on stdin, with --commands): stall, mark TEXT, stats-reset, stats, quit,
  * and now (answers "@rc now <cycle>" on stdout whatever --records says).
  *
  * simavr 1.6's SPI model completes a byte 100 us after the SPDR write whatever the clock divider;
  * this harness replaces the SPDR write handler with one that honours SPR1:0 and SPI2X
- * (8 bits x divider cycles: 16 cycles at fosc/2), as the ATmega328P datasheet describes. */
+ * (8 bits x divider cycles: 16 cycles at fosc/2), as the ATmega328P datasheet describes, with the
+ * data sheet's SPIF/WCOL rules (see the SPI section below). */
 #define _GNU_SOURCE
 #include <errno.h>
 #include <fcntl.h>
@@ -69,6 +71,7 @@ static volatile sig_atomic_t quit;
 static uint8_t inbuf[512];
 static size_t in_len, in_pos;
 static avr_spi_t *spi;
+static unsigned long spi_collisions;
 static int realtime;
 static struct timespec t0;
 static uint64_t max_cycles;
@@ -132,27 +135,67 @@ static void stats_print(void)
     fflush(rec);
 }
 
-/* ---- SPI at the configured clock ---- */
+/* ---- SPI at the configured clock, with the data sheet's flag rules ----
+ * SPIF (bit 7) and WCOL (bit 6) clear only when SPSR was read with one of them set and SPDR is then
+ * accessed; a write to SPDR while a byte is still shifting sets WCOL and is ignored. Firmware that
+ * writes too early therefore loses bytes here as it would on the chip, and the tests see it. */
+static int spi_busy, spif_seen;
+static uint8_t spi_byte;
+static avr_io_read_t spdr_read_orig;
+static void *spdr_read_param;
+
+static void spi_flags_access(struct avr_t *a)
+{
+    if (spif_seen) {
+        a->data[A_SPSR] &= (uint8_t)~0xC0;
+        spif_seen = 0;
+    }
+}
+
+static uint8_t spsr_read(struct avr_t *a, avr_io_addr_t addr, void *param)
+{
+    (void)addr;
+    (void)param;
+    if (a->data[A_SPSR] & 0xC0)
+        spif_seen = 1;
+    return a->data[A_SPSR];
+}
+
+static uint8_t spdr_read(struct avr_t *a, avr_io_addr_t addr, void *param)
+{
+    spi_flags_access(a);
+    (void)param;
+    return spdr_read_orig ? spdr_read_orig(a, addr, spdr_read_param) : a->data[addr];
+}
+
 static avr_cycle_count_t spi_done(struct avr_t *a, avr_cycle_count_t when, void *param)
 {
     (void)when;
     (void)param;
+    spi_busy = 0;
     avr_raise_interrupt(a, &spi->spi);                      /* sets SPIF */
-    avr_raise_irq(spi->io.irq + SPI_IRQ_OUTPUT, a->data[A_SPDR]);
+    avr_raise_irq(spi->io.irq + SPI_IRQ_OUTPUT, spi_byte);
     return 0;
 }
 
 static void spdr_write(struct avr_t *a, avr_io_addr_t addr, uint8_t v, void *param)
 {
     (void)param;
-    avr_regbit_clear(a, spi->spi.raised);
-    avr_core_watch_write(a, addr, v);
+    spi_flags_access(a);
     if (!(a->data[A_SPCR] & 0x40) || !(a->data[A_SPCR] & 0x10))
         return;                                             /* SPE and MSTR */
+    if (spi_busy) {
+        a->data[A_SPSR] |= 0x40;                            /* WCOL: the byte is not sent */
+        spi_collisions++;
+        return;
+    }
+    avr_core_watch_write(a, addr, v);
     static const int div[4] = {4, 16, 64, 128};
     int d = div[a->data[A_SPCR] & 3];
     if (a->data[A_SPSR] & 1)
         d /= 2;                                             /* SPI2X */
+    spi_byte = v;
+    spi_busy = 1;
     avr_cycle_timer_register(a, (avr_cycle_count_t)(8 * d), spi_done, NULL);
 }
 
@@ -348,6 +391,14 @@ int main(int argc, char **argv)
     /* SPI: our own SPDR write handler (see the top of this file). */
     spi = (avr_spi_t *)avr->io[AVR_DATA_TO_IO(A_SPDR)].w.param;
     avr->io[AVR_DATA_TO_IO(A_SPDR)].w.c = spdr_write;
+    spdr_read_orig = avr->io[AVR_DATA_TO_IO(A_SPDR)].r.c;
+    spdr_read_param = avr->io[AVR_DATA_TO_IO(A_SPDR)].r.param;
+    avr->io[AVR_DATA_TO_IO(A_SPDR)].r.c = spdr_read;
+    if (avr->io[AVR_DATA_TO_IO(A_SPSR)].r.c) {
+        fprintf(stderr, "harness: simavr already reads SPSR through a handler; this harness expects none\n");
+        return 2;
+    }
+    avr->io[AVR_DATA_TO_IO(A_SPSR)].r.c = spsr_read;
 
     /* The chain: SPI -> U1 -> U2 -> ...; the first byte shifted ends in the farthest chip. */
     for (int i = 0; i < n_chips; i++)
@@ -417,6 +468,7 @@ int main(int argc, char **argv)
     int state = cpu_Running;
     while (!quit && state != cpu_Done && state != cpu_Crashed)
         state = avr_run(avr);
+    fprintf(rec, "@rc spi-collisions %lu\n", spi_collisions);
     fprintf(rec, "@rc end %llu %d\n", (unsigned long long)avr->cycle, state);
     fflush(rec);
     if (link)

@@ -58,12 +58,13 @@ def measure(build: Path, profile, row_period_us: int, tmp: Path) -> dict:
     recs_path = tmp / f"rec-{row_period_us}.txt"
     masks = guard_masks(profile)
     frame = np.zeros((profile.rows, profile.cols), np.uint8)
-    frame[:, ::2] = 3                                       # a busy frame, within a limit of 8
+    frame[:, ::2] = 3                                       # a busy frame: half the columns amber
+    limit = int(2 * len(range(0, profile.cols, 2)))         # ... which the guard configured here allows
     with simboard.SimBoard.start(profile, build_dir=build, records=recs_path) as board:
         with serial.serial_for_url(board.port, baudrate=115200, timeout=0.05) as port:
             assert exchange(port, P.Identify(1))[0].version == 1
             cfg = P.Configure(2, profile.rows, len(masks.xor), row_period_us, int(profile.scan.blanking_us),
-                              8, masks.xor, masks.count)
+                              limit, masks.xor, masks.count)
             assert exchange(port, cfg) == [P.Ack(2)]
             assert exchange(port, P.Frame(3, shift_bytes(frame, profile).tobytes())) == [P.Ack(3)]
             board.wait_cycles(F // 100)
@@ -98,12 +99,17 @@ def main() -> int:
         default = int(profile.scan.row_period_us)
         periods = [default, int(1e6 / (GOAL_REFRESH_HZ * profile.rows)), int(1e6 / (STRETCH_HZ * profile.rows)), 20]
         rows = [measure(build, profile, p, tmp) for p in dict.fromkeys(periods)]
+        wide = load_profile("wide-16x8")
+        wide_row = measure(build, wide, int(wide.scan.row_period_us), tmp)
     print(f"receiver firmware, {profile.name} ({profile.rows} rows x {profile.n_registers} registers), "
           f"ATmega328P-class core at {F / 1e6:g} MHz in simavr")
     print(f"{'row period':>11} {'cycles/row irq min/mean/max':>28} {'row rate':>10} {'refresh':>10} {'scan CPU':>9}")
     for r in rows:
         print(f"{r['period']:>8} us {r['min']:>9.0f} {r['mean']:>8.1f} {r['max']:>8.0f}   {r['row_hz']:>8.0f} Hz "
               f"{r['refresh']:>7.0f} Hz {100 * r['cpu']:>7.2f} %")
+    r = wide_row
+    print(f"{wide.name} ({wide.rows} rows x {wide.n_registers} registers): {r['period']} us rows, cycles/row irq "
+          f"{r['min']:.0f}/{r['mean']:.1f}/{r['max']:.0f}, refresh {r['refresh']:.0f} Hz, scan CPU {100 * r['cpu']:.2f} %")
     print(f"flash {flash} bytes (goal <= {GOAL_FLASH}: ratio {flash / GOAL_FLASH:.2f}); "
           f"RAM {ram} bytes static (goal <= {GOAL_RAM}: ratio {ram / GOAL_RAM:.2f})")
     ok_goal = [r for r in rows if r["refresh"] >= GOAL_REFRESH_HZ and r["cpu"] <= GOAL_CPU]

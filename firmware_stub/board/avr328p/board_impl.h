@@ -54,6 +54,23 @@ static inline void board_spi_put(uint8_t b)
         ;
 }
 
+/* The row tick's shift: the next byte is fetched while the previous one shifts out, and the last
+ * one is left shifting (16 cycles; the next latch is a row period away). SPIF is cleared the data
+ * sheet's way first: read SPSR with SPIF set (left by the previous row's last byte), then SPDR. */
+static inline void board_spi_put_slot(const uint8_t *src, uint8_t n)
+{
+    (void)SPSR;
+    (void)SPDR;
+    uint8_t b = *src++;
+    SPDR = b;
+    while (--n) {
+        b = *src++;
+        while (!(SPSR & _BV(SPIF)))
+            ;
+        SPDR = b;
+    }
+}
+
 static inline void board_latch(void)
 {
     PORTB |= _BV(RC_PIN_LATCH);     /* a real part latches on this rising edge */

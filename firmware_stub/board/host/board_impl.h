@@ -19,6 +19,7 @@ void board_init(void);
 int16_t board_serial_get(void);
 void board_serial_put(uint8_t b);
 void board_spi_put(uint8_t b);
+void board_spi_put_slot(const uint8_t *src, uint8_t n);
 void board_latch(void);
 void board_blank(void);
 void board_unblank_later(void);

@@ -32,6 +32,11 @@ void board_init(void) { h.oe = 0; h.outputs = 0; h.ticking = 0; }
 int16_t board_serial_get(void) { return -1; }
 void board_serial_put(uint8_t b) { if (h.n_tx < HOST_TX) h.tx[h.n_tx++] = b; }
 void board_spi_put(uint8_t b) { ev(HOST_EV_SPI, b); }
+void board_spi_put_slot(const uint8_t *src, uint8_t n)
+{
+    while (n--)
+        ev(HOST_EV_SPI, *src++);
+}
 void board_latch(void) { ev(HOST_EV_LATCH, 0); }
 void board_blank(void) { h.oe = 0; ev(HOST_EV_BLANK, 0); }
 void board_unblank_later(void)
