@@ -258,3 +258,17 @@ def test_rowcast_sim_serves_rowcast_stream(build_dir, tmp_path):
     shown = collapse([index_of(f, frames) for s, f, clean in scans_of(recs, profile)
                       if clean and recs.oe_at(s + period // 2)])
     assert shown == expected, (shown, expected)
+
+
+def test_rowcast_sim_bad_input_is_one_line_exit_2(tmp_path):
+    import subprocess
+    import sys
+
+    for argv, names in ((["--records", str(tmp_path / "no" / "such" / "rec.txt")], "--records"),
+                        (["--profile", "no-such-profile"], "no-such-profile"),
+                        (["--seconds", "0"], "--seconds")):
+        done = subprocess.run([sys.executable, "-m", "composer", "sim", *argv], capture_output=True, text=True,
+                              timeout=60)
+        assert done.returncode == 2, (argv, done.stderr)
+        lines = done.stderr.strip().splitlines()
+        assert len(lines) == 1 and names in lines[0] and "Traceback" not in done.stderr, done.stderr

@@ -39,6 +39,9 @@ def configure(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     if args.seconds is not None and args.seconds <= 0:
         raise InputError(f"--seconds {args.seconds:g}: must be more than 0")
+    for option, value in (("--records", args.records), ("--link", args.link)):
+        if value is not None and not Path(value).expanduser().resolve().parent.is_dir():
+            raise InputError(f"{option} {value}: the folder {Path(value).parent} does not exist")
     profile = load_profile(args.profile)
     n_regs = len(profile.chain.registers)
     if n_regs > MAX_REGISTERS or profile.rows > MAX_ROWS:
