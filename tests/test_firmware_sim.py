@@ -143,11 +143,16 @@ def test_bench_8x8_end_to_end(build_dir, tmp_path):
             assert limit == firmware_lit_limit(profile) == 5
             board.mark("faults done")
             # The host stops sending: the last frame keeps scanning.
+            board.command("stats-reset")
             board.wait_cycles(30 * profile.rows * period)
+            board.command("stats")
             board.mark("idle done")
-        board.stall()
-        board.wait_cycles(WATCHDOG_CYCLES + 4 * period)
-        board.mark("end")
+            board.stall()
+            board.wait_cycles(WATCHDOG_CYCLES + 4 * period)
+            board.mark("end")
+            # After the watchdog reset the firmware starts afresh: unconfigured, outputs off.
+            again = raw_exchange(port, P.Identify(905))
+            assert again and again[0].state == 0 and again[0].max_lit_per_row == 0, again
     recs = read_records(recs_path)
     m = recs.marks
     assert recs.spi_collisions == 0                 # no SPDR write while a byte was still shifting
@@ -194,6 +199,11 @@ def test_bench_8x8_end_to_end(build_dir, tmp_path):
     assert np.median(steps) == period and abs(float(np.mean(steps)) - period) < 1.0, steps
     assert np.abs(steps - period).max() <= 64, steps
     assert all(recs.oe_at(s + period // 2) == 1 for s, _, _ in idle)
+
+    # The row interrupt fits the shortest row period the firmware accepts (config.h: 20 us = 320
+    # cycles), with the 4-cycle interrupt response and 4-cycle RETI the hook cannot see.
+    tick = next(st for st in recs.isr if st.vector == 11)
+    assert tick.count >= 28 * profile.rows and tick.max + 8 < 20 * F // 1_000_000, tick
 
     # 6. A scan stall: output-enable inactive within the watchdog period, and it stays so.
     (stall,) = recs.stalls
