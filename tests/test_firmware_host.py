@@ -13,7 +13,6 @@ import binascii
 import ctypes
 import json
 import subprocess
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -29,6 +28,7 @@ FW = ROOT / "firmware_stub"
 VECTORS = json.loads((ROOT / "transport" / "protocol_vectors.json").read_text())
 
 EV_SPI, EV_LATCH, EV_BLANK, EV_UNBLANK, EV_OUTPUTS, EV_TICK_START, EV_TICK_STOP = range(1, 8)
+P_STATE_CONFIGURED = 1      # IDENTITY state bit 0 (PROTOCOL.md section 4)
 
 
 @pytest.fixture(scope="module")
@@ -326,8 +326,6 @@ def test_blank_and_show_drive_output_enable(lib, bench):
     rx.tick(9)
     assert lib.host_oe() == 1
 
-
-P_STATE_CONFIGURED = 1
 
 
 @pytest.mark.parametrize("field,kwargs", [
