@@ -27,6 +27,7 @@ from transport.simboard import SimBoard, latched_shift_bytes, read_records
 
 F = simboard.F_CPU
 WATCHDOG_CYCLES = 16 * F // 1000            # 16 ms (ATmega328P datasheet, from memory)
+SIM_BOUND = 25 * F                          # every run stops by 25 s of simulated time, whatever happens
 
 
 @pytest.fixture(scope="module")
@@ -108,7 +109,7 @@ def test_bench_8x8_end_to_end(build_dir, tmp_path):
     profile = load_profile("bench-8x8")
     recs_path = tmp_path / "records.txt"
     period = int(round(profile.scan.row_period_us * F / 1e6))
-    with SimBoard.start(profile, build_dir=build_dir, records=recs_path) as board:
+    with SimBoard.start(profile, build_dir=build_dir, records=recs_path, max_cycles=SIM_BOUND) as board:
         link = Link(board.port, profile, window=2, handshake_timeout=2.0, reconnect=False)
         with link:
             anim = frames_within(profile, link, 5, seed=11)
@@ -217,7 +218,7 @@ def test_wide_16x8_five_registers(build_dir, tmp_path):
     profile = load_profile("wide-16x8")
     recs_path = tmp_path / "records.txt"
     period = int(round(profile.scan.row_period_us * F / 1e6))
-    with SimBoard.start(profile, build_dir=build_dir, records=recs_path) as board:
+    with SimBoard.start(profile, build_dir=build_dir, records=recs_path, max_cycles=SIM_BOUND) as board:
         with Link(board.port, profile, window=2, handshake_timeout=2.0, reconnect=False) as link:
             anim = frames_within(profile, link, 3, seed=5)
             board.mark("anim")
