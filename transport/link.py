@@ -239,7 +239,11 @@ def open_port(url: str, baud: int, timeout: float = 0.01):
     """``serial.serial_for_url`` with the failures a user meets turned into one-line LinkErrors."""
     register_url_handler()
     try:
-        return serial.serial_for_url(url, baudrate=baud, timeout=timeout, write_timeout=2.0)
+        try:
+            # A write that cannot finish in 2 s means the far end stopped reading: treat as lost.
+            return serial.serial_for_url(url, baudrate=baud, timeout=timeout, write_timeout=2.0)
+        except NotImplementedError:      # pyserial's rfc2217:// client has no write timeout
+            return serial.serial_for_url(url, baudrate=baud, timeout=timeout)
     except ValueError as err:
         raise LinkError(f"cannot open {url}: {err}") from None
     except PermissionError:

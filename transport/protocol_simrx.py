@@ -198,6 +198,23 @@ class Serial(SerialBase):
     def out_waiting(self) -> int:
         return 0
 
+    # Modem lines of a board that is plugged in (an RFC 2217 server reports them to its client).
+    @property
+    def cts(self) -> bool:
+        return bool(self.receiver and self.receiver.plugged)
+
+    @property
+    def dsr(self) -> bool:
+        return bool(self.receiver and self.receiver.plugged)
+
+    @property
+    def ri(self) -> bool:
+        return False
+
+    @property
+    def cd(self) -> bool:
+        return bool(self.receiver and self.receiver.plugged)
+
     @property
     def faults(self) -> tuple[FaultInjector, FaultInjector]:
         """The injectors towards the device and towards the host."""
