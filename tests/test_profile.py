@@ -65,7 +65,7 @@ BAD = [
     ("bad choice", _sub('bit_order = "msb-first"', 'bit_order = "msb_first"'),
      ["chain.bit_order", 'did you mean "msb-first"']),
     ("driver kind", _sub('kind = "source"', 'kind = "sink"'), ["row_driver.kind", "common-anode"]),
-    ("drop model params", _sub("drop_c_ohm = 0.5", ""), ["row_driver.drop_c_ohm", "log-linear"]),
+    ("drop model params", lambda t: re.sub(r"(?m)^drop_c_ohm = .*$", "", t), ["row_driver.drop_c_ohm", "log-linear"]),
     ("blanking fills slot", _sub("blanking_us = 4.0", "blanking_us = 90.0"), ["scan.blanking_us"]),
     ("both timings", _sub("row_period_us = 80.0", "row_period_us = 80.0\nrefresh_hz = 100.0"),
      ["scan.row_period_us", "exactly one"]),
