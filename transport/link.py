@@ -38,6 +38,15 @@ EVENT_KINDS = frozenset({"connected", "acked", "rejected", "blocked", "lost", "r
 
 @dataclass(frozen=True)
 class LinkEvent:
+    """What happened on the link, for a status line. ``message`` is always one line.
+
+    kinds: ``connected`` (open succeeded), ``acked`` (the receiver took a message; ``seq``), ``rejected``
+    (it refused one: ``message`` says why), ``blocked`` (the guard stopped a frame before encoding;
+    ``reasons``, one line each), ``lost`` (port gone or receiver silent), ``reconnecting``, ``reconnected``
+    (identified and configured again; the last frame is restored), ``closed``, ``error`` (bad blocks
+    from the device, a failing callback).
+    """
+
     kind: str
     message: str
     seq: int | None = None
@@ -480,8 +489,8 @@ class Link:
         A frame the engine passes is also held to the receiver's own coarse count (the limit sent in
         CONFIGURE): the receiver would refuse it anyway, and saying so here names the row."""
         verdict = guard_frame(frame, self.profile)
-        if not verdict.ok:
-            return verdict, None
+        if not verdict.ok:       # the same verdict, its reasons without the engine's "frame 0: "
+            return type(verdict)(False, _reasons(verdict), tuple(getattr(verdict, "violations", ()))), None
         slots = shift_bytes(frame, self.profile)
         lit = np.unpackbits((slots ^ self._xor) & self._count, axis=-1).sum(axis=-1)
         over = np.nonzero(lit > self._limit)[0]
