@@ -226,9 +226,13 @@ def test_garbage_from_the_device_is_counted_not_raised(bench_link):
     link, events = bench_link
     port = link.port
     with port._cv:                               # noise arrives from the device side
-        port._buf += bytes(range(1, 200)) + b"\x00\x07\x07\x00" + p.encode(p.Reject(999, 0x55, 1))
+        port._buf += (bytes(range(1, 200)) * 2 + b"\x00"            # oversized
+                      + bytes(range(1, 30)) + b"\x00"                 # not COBS / bad CRC
+                      + b"\x07\x07\x00"                               # truncated
+                      + p.encode(p.Reject(999, 0x55, 1)))              # CRC-correct, answers nothing
     time.sleep(0.1)
-    assert link.decoder.counts.dropped >= 2 and link.stats.stray_replies >= 1
+    c = link.decoder.counts
+    assert c.oversized == 1 and c.dropped == 3 and link.stats.stray_replies == 1
     reports = [e for e in events if e.kind == "error" and "bad blocks from the receiver" in e.message]
     assert reports and "\n" not in reports[0].message
     frame = np.zeros((8, 8), np.uint8)

@@ -312,7 +312,8 @@ class Link:
         self._count = np.frombuffer(self._masks.count, np.uint8)
         self._limit = int(_electrical().firmware_lit_limit(profile))
         self.stats = LinkStats()
-        self.decoder = p.StreamDecoder()
+        # The longest reply is IDENTITY: 4 + 8 + 2 bytes, 15 COBS-encoded; anything much longer is garbage.
+        self.decoder = p.StreamDecoder(max_block=64)
         self.identity: p.Identity | None = None
         self.port: Any = None
         self._seq = 0
