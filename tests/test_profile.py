@@ -30,7 +30,7 @@ def test_bundled_profiles_are_valid_and_cover_the_variants():
 
 
 def test_refresh_given_instead_of_row_period():
-    text = BENCH.replace("row_period_us = 80.0", "refresh_hz = 1000.0")
+    text = BENCH.replace("row_period_us = 90.0", "refresh_hz = 1000.0")
     prof = parse_profile(text)
     assert prof.scan.row_period_us == pytest.approx(125.0)  # 1 / (1000 Hz x 8 rows)
 
@@ -67,7 +67,7 @@ BAD = [
     ("driver kind", _sub('kind = "source"', 'kind = "sink"'), ["row_driver.kind", "common-anode"]),
     ("drop model params", lambda t: re.sub(r"(?m)^drop_c_ohm = .*$", "", t), ["row_driver.drop_c_ohm", "log-linear"]),
     ("blanking fills slot", _sub("blanking_us = 4.0", "blanking_us = 90.0"), ["scan.blanking_us"]),
-    ("both timings", _sub("row_period_us = 80.0", "row_period_us = 80.0\nrefresh_hz = 100.0"),
+    ("both timings", _sub("row_period_us = 90.0", "row_period_us = 90.0\nrefresh_hz = 100.0"),
      ["scan.row_period_us", "exactly one"]),
     ("no register for green", lambda t: t[:t.index('[[chain.register]]\nname = "U3 green"')] + t[t.index("[supply]"):],
      ['no register drives "green"']),
@@ -147,7 +147,7 @@ def test_profile_show_json_keys_are_documented_in_readme():
     assert proc.returncode == 0, proc.stderr
     data = json.loads(proc.stdout)
     assert data["panel"]["rows"] == 8 and data["supply"]["voltage_v"] == 5.0
-    assert data["scan"]["refresh_hz"] == pytest.approx(1e6 / (80 * 8))
+    assert data["scan"]["refresh_hz"] == pytest.approx(1e6 / (90 * 8))
     readme = (ROOT / "README.md").read_text()
     section = readme[readme.index("### Hardware profiles"):]
     missing = [k for k in _flat_keys(data) if f"`{k.split('.')[-1].replace('[]', '')}`" not in section]
