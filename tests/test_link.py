@@ -273,3 +273,19 @@ def test_list_ports_shape():
     ports = list_ports()
     assert all(isinstance(d, str) and isinstance(desc, str) and (ids == "" or len(ids) == 9)
                for d, desc, ids in ports)
+
+
+def test_a_failing_observer_does_not_stop_the_link():
+    def bad_observer(ev):
+        raise RuntimeError("observer bug")
+
+    frames = np.zeros((3, 8, 8), np.uint8)
+    anim = Animation(frames=frames, durations_ms=[10, 10, 10], name="x")
+
+    def bad_progress(i, result):
+        raise RuntimeError("progress bug")
+
+    with Link("simrx://bench-8x8", PROFILES["bench-8x8"], on_event=bad_observer) as link:
+        assert link.send_frame(frames[0]).acked
+        report = link.play(anim, progress=bad_progress)
+        assert report.acked == 3 and link.connected

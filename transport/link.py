@@ -571,6 +571,10 @@ class Link:
         with self._cv:
             while not item.done:
                 self._cv.wait(0.05)
+                thread = self._thread
+                if not item.done and (thread is None or not thread.is_alive()):
+                    self._window.items.pop(item.seq, None)
+                    item.done, item.reason = True, "link closed"
 
     def _drain(self) -> None:
         with self._cv:
@@ -606,52 +610,62 @@ class Link:
 
     # -- the service thread ---------------------------------------------------------------------
     def _service(self) -> None:
+        """The service thread. A bug below must not leave callers waiting on a dead thread: anything
+        unexpected is reported as an "error" event and handled as a lost link."""
         while not self._closing:
-            port = self.port
-            if port is None or not self._connected:
-                self._reconnect_loop()
-                continue
             try:
-                waiting = port.in_waiting
-                data = port.read(max(1, min(waiting, 4096)))
-            except (serial.SerialException, OSError, AttributeError, TypeError, ValueError) as err:
-                self._lost(f"read failed: {_one_line(err)}")
-                continue
-            finished: list[Pending] = []
-            if data:
-                self._last_rx = time.monotonic()
-                for payload in self.decoder.feed(data):
-                    finished += self._on_payload(payload)
-            now = time.monotonic()
-            self._report_bad_blocks(now)
-            resend: list[Pending] = []
-            with self._cv:
-                more, failed = self._window.overdue(now)
-                resend += more
-                finished += failed
-                live = None
-                if self._live is not None and self._window.has_room and not self._need_config:
-                    frame, verdict, data_bytes = self._live
-                    self._live = None
-                    seq = self._next_seq()
-                    live = Pending(seq, p.encode(p.Frame(seq, data_bytes, p.SHOW_AFTER)), True, verdict=verdict,
-                                   frame=frame)
-                    self._window.add(live, now)
-                    self.stats.sent += 1
-                if finished:
-                    self._cv.notify_all()
-            if resend:
-                self.stats.retransmits += len(resend)
-                # A leading zero ends any half-received block at the receiver (PROTOCOL.md section 1).
-                self._write(b"\x00" + b"".join(item.wire for item in resend))
-            if live is not None:
-                self._write(live.wire)
-            self._finish(finished)
-            if any(item.reason.startswith("no answer after") for item in finished) and \
-                    time.monotonic() - self._last_rx > 4 * self._window.timeout_s:
-                self._lost("the receiver stopped answering", port_gone=False)
-            elif self._need_config and not len(self._window):
-                self._reconfigure()
+                self._service_once()
+            except Exception as err:  # noqa: BLE001 - see docstring
+                self._emit("error", f"link service failed: {type(err).__name__}: {_one_line(err)}")
+                self._lost(f"internal error: {_one_line(err)}")
+                time.sleep(self.reconnect_interval)
+
+    def _service_once(self) -> None:
+        port = self.port
+        if port is None or not self._connected:
+            self._reconnect_loop()
+            return
+        try:
+            waiting = port.in_waiting
+            data = port.read(max(1, min(waiting, 4096)))
+        except (serial.SerialException, OSError, AttributeError, TypeError, ValueError) as err:
+            self._lost(f"read failed: {_one_line(err)}")
+            return
+        finished: list[Pending] = []
+        if data:
+            self._last_rx = time.monotonic()
+            for payload in self.decoder.feed(data):
+                finished += self._on_payload(payload)
+        now = time.monotonic()
+        self._report_bad_blocks(now)
+        resend: list[Pending] = []
+        with self._cv:
+            more, failed = self._window.overdue(now)
+            resend += more
+            finished += failed
+            live = None
+            if self._live is not None and self._window.has_room and not self._need_config:
+                frame, verdict, data_bytes = self._live
+                self._live = None
+                seq = self._next_seq()
+                live = Pending(seq, p.encode(p.Frame(seq, data_bytes, p.SHOW_AFTER)), True, verdict=verdict,
+                               frame=frame)
+                self._window.add(live, now)
+                self.stats.sent += 1
+            if finished:
+                self._cv.notify_all()
+        if resend:
+            self.stats.retransmits += len(resend)
+            # A leading zero ends any half-received block at the receiver (PROTOCOL.md section 1).
+            self._write(b"\x00" + b"".join(item.wire for item in resend))
+        if live is not None:
+            self._write(live.wire)
+        self._finish(finished)
+        if any(item.reason.startswith("no answer after") for item in finished) and \
+                time.monotonic() - self._last_rx > 4 * self._window.timeout_s:
+            self._lost("the receiver stopped answering", port_gone=False)
+        elif self._need_config and not len(self._window):
+            self._reconfigure()
 
     def _report_bad_blocks(self, now: float) -> None:
         """Garbage, truncated or oversized blocks from the device are counted, and reported as an
@@ -709,7 +723,7 @@ class Link:
             if port is None:
                 try:
                     port = self._opener(self.url, self.baud)
-                except LinkError:
+                except Exception:  # noqa: BLE001 - not there yet (LinkError), or an opener's own failure
                     time.sleep(self.reconnect_interval)
                     continue
             try:
@@ -722,6 +736,9 @@ class Link:
                     time.sleep(self.reconnect_interval)
                 continue
             with self._cv:
+                if self._closing:                # close() came while we were handshaking
+                    _close_quietly(port)
+                    return
                 self.port = port
                 self._connected = True
                 self._need_config = False
