@@ -152,9 +152,11 @@ def _quick_ok(frames: np.ndarray, p: _Prep) -> bool:
 
 
 def firmware_lit_limit(profile: Profile) -> int:
-    """Lit LEDs per row slot the receiver's own guard should allow: the largest count for which
-    every split between colours, packed as tightly onto one register as the wiring allows, stays
-    within every per-row limit at the stress corner (a coarse backstop, not the real check)."""
+    """Lit LEDs per row slot the receiver's own guard should allow: the most that any row of a frame
+    :func:`guard` accepts can have at the stress corner. The receiver then never refuses what the host
+    lets through, and still refuses the gross overloads (a whole row lit, a stuck host) that would
+    break the row driver, the supply or the LEDs. It is a coarse backstop: it counts LEDs and cannot
+    see how they fall on the register packages, which the host guard checks in full."""
     p = _prep(profile, "stress")
     lim, t = p.limits, p.timing
     c1 = p.c1
@@ -162,14 +164,23 @@ def firmware_lit_limit(profile: Profile) -> int:
     nr, ng = np.meshgrid(n, n, indexing="ij")
     i_row = p.i_row_ma.reshape(c1, c1)
     i_led = np.moveaxis(p.i_led_ma.reshape(2, c1, c1), 0, -1)
-    biggest = [max([len(g.cols) for g in p.groups if g.colour == k], default=0) for k in range(2)]
-    pkg = np.maximum(np.minimum(nr, biggest[0]) * i_led[..., 0], np.minimum(ng, biggest[1]) * i_led[..., 1])
+    # The kindest packing for the package rule: each colour's lit LEDs spread as evenly as the
+    # registers' connected outputs allow (the fewest on the busiest package).
+    spread = [_least_busiest(sorted(len(g.cols) for g in p.groups if g.colour == k), c1) for k in range(2)]
+    pkg = np.maximum(spread[0][nr] * i_led[..., 0], spread[1][ng] * i_led[..., 1])
     ok = ((i_row <= lim.row_peak_ma.min()) & (i_row <= lim.supply_ma) & (pkg <= lim.package_ma)
           & (i_led.max(-1) <= lim.pin_ma) & (i_led <= lim.led_peak_ma).all(-1)
           & (i_led * t.effective_duty <= lim.led_average_ma).all(-1))
-    total = nr + ng
-    bad = total[~ok]
-    return int(bad.min() - 1) if bad.size else int(total.max())
+    return int((nr + ng)[ok].max())
+
+
+def _least_busiest(capacities: list[int], top: int) -> np.ndarray:
+    """For n = 0..top-1 lit LEDs of one colour: the fewest that must share the busiest register, given
+    each register's number of connected outputs (n beyond the capacity is never reached)."""
+    caps = np.asarray(capacities or [0])
+    m = np.arange(max(caps.max(), 1) + 1)
+    holds = np.minimum(caps[None, :], m[:, None]).sum(axis=1)          # LEDs placeable with <= m each
+    return np.searchsorted(holds, np.arange(top), side="left").clip(max=m[-1])
 
 
 def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile, corner: str, *,
