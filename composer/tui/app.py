@@ -65,6 +65,7 @@ class EditorScreen(Screen):
         self._autosaved_serial = session.history.serial
         self.animation_notes: list[str] = []
         self.message = ""
+        self._lines: dict[str, str] = {}
 
     # -- layout -----------------------------------------------------------------------------
     def compose(self) -> ComposeResult:
@@ -116,8 +117,8 @@ class EditorScreen(Screen):
         if self.startup.read_only and s.path is not None:
             where += " [bundled: save as]"
         dirty = "✱ unsaved · " if s.dirty else ""
-        self.query_one("#title", Static).update(
-            f"{dirty}{s.anim.name} · frame {s.current + 1}/{s.anim.n_frames} · {s.profile.name} · {where}")
+        self._set_line("#title",
+            f"{dirty}{s.anim.name} · frame {s.current} of {s.anim.n_frames} · {s.profile.name} · {where}")
 
     def _update_tool(self) -> None:
         s = self.session
@@ -133,13 +134,19 @@ class EditorScreen(Screen):
             flags.append("onion")
         if s.clipboard is not None:
             flags.append(f"clip {s.clipboard.shape[0]}x{s.clipboard.shape[1]}")
-        self.query_one("#tool", Static).update(" · ".join(flags))
+        self._set_line("#tool", " · ".join(flags))
+
+    def _set_line(self, selector: str, text: str) -> None:
+        """Fixed-height lines: no layout pass needed, and none at all when the text is unchanged."""
+        if self._lines.get(selector) != text:
+            self._lines[selector] = text
+            self.query_one(selector, Static).update(text, layout=False)
 
     def say(self, text: str, *, error: bool = False) -> None:
         self.message = text
         status = self.query_one("#status", Static)
         status.set_class(error, "error")
-        status.update(text)
+        status.update(text, layout=False)
 
     # -- applying edits ---------------------------------------------------------------------
     def apply(self, edited: Edited | None) -> None:
@@ -184,12 +191,13 @@ class EditorScreen(Screen):
             report = analyse(frames, durations, self.session.profile)
             timing = getattr(report, "timing", None)
             if timing is not None:
-                notes.append(f"refresh {float(timing.refresh_hz):.0f} Hz · flicker: {timing.flicker}")
+                region = getattr(timing, "flicker_region", None) or getattr(timing, "flicker", "")
+                notes.append(f"refresh {float(timing.refresh_hz):.0f} Hz · flicker: {region}")
             flash = getattr(report, "flash", None)
             if flash is not None:
                 notes.append(("flash: " if flash.ok else "! flash: ") + str(flash.message))
             for v in report.violations:
-                if getattr(v, "frame", None) is None:
+                if getattr(v, "frame", None) is None and not str(v.rule).startswith("flash"):
                     notes.append(f"! {v.rule} {v.where}: {float(v.measured):.1f} {v.unit} > "
                                  f"{float(v.limit):.1f} {v.unit}")
         except RowcastError as err:
@@ -421,9 +429,11 @@ class EditorScreen(Screen):
         self.query_one("#link-pane").toggle_connect(self.session.frame)
 
     def action_live(self) -> None:
+        self.add_class("show-link")
         self.query_one("#link-pane").toggle_live(self.session.frame)
 
     def action_play_device(self) -> None:
+        self.add_class("show-link")
         self.query_one("#link-pane").toggle_play(self.session.anim)
 
     # -- history and files ------------------------------------------------------------------

@@ -12,13 +12,25 @@ from rich.style import Style
 from textual.strip import Strip
 from textual.widget import Widget
 
-__all__ = ["FrameStrip", "CELL"]
+__all__ = ["FrameStrip", "CELL", "short_rule"]
 
 CELL = 7                                   # characters per frame, separator included
 _OK = Style(color="#3ad13a")
 _BAD = Style(color="#ff3a3a", bold=True)
 _DIM = Style(dim=True)
 _CUR = Style(reverse=True, bold=True)
+
+
+# rule ids of the engine -> at most five characters for the strip (the readout spells them out)
+_SHORT = {"row-driver-peak": "row", "row-driver-thermal": "heat", "led-peak": "ledpk", "led-average": "ledav",
+          "register-pin": "pin", "register-package": "pkg", "supply-peak": "sup", "supply-average": "supav",
+          "resistor-power": "res", "scan-timing": "scan"}
+
+
+def short_rule(rule: str) -> str:
+    if rule.startswith("flash"):
+        return "flash"
+    return _SHORT.get(rule, rule.replace("-", "")[:5])
 
 
 class FrameStrip(Widget, can_focus=False):
@@ -68,7 +80,7 @@ class FrameStrip(Widget, can_focus=False):
                 elif verdict == "":
                     text, style = f"{'ok':>6}", _OK
                 else:
-                    text, style = f"{'!' + verdict[:4]:>6}", _BAD
+                    text, style = f"{'!' + short_rule(verdict):>6}", _BAD
             segments.append(Segment(text, style))
             segments.append(Segment("│", _DIM))
         strip = Strip(segments)

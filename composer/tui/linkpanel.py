@@ -62,6 +62,7 @@ class LinkPanel(Vertical):
         self._stop_play: threading.Event | None = None
         self._pending: np.ndarray | None = None    # the newest frame, sent when live mode turns on
         self._shown: np.ndarray | None = None
+        self._gone = False                          # unmounted: widgets are going away
 
     def compose(self) -> ComposeResult:
         yield Label("link to the panel", classes="pane-title")
@@ -183,6 +184,11 @@ class LinkPanel(Vertical):
         except Exception:  # noqa: BLE001 - closing a port that already vanished
             pass
 
+    def on_unmount(self) -> None:
+        # however the app ends (quit, a test finishing, an error), no play loop or port outlives it
+        self._gone = True
+        self.shutdown()
+
     def shutdown(self) -> None:
         """On quit: stop playing and close the port (what the panel shows stays shown)."""
         self.stop_play()
@@ -277,6 +283,8 @@ class LinkPanel(Vertical):
 
     # -- the preview --------------------------------------------------------------------------
     def _poll_receiver(self) -> None:
+        if self._gone:
+            return
         link = self.link
         receiver = getattr(link, "receiver", None) if link is not None else None
         shown = None
@@ -292,7 +300,7 @@ class LinkPanel(Vertical):
             self.query_one("#device", LedView).show(self._shown)
 
     def _refresh_labels(self) -> None:
-        if not self.is_mounted:
+        if not self.is_mounted or self._gone:
             return
         self.query_one("#link-connect", Button).label = "disconnect" if self.link is not None else "connect"
         self.query_one("#link-live", Button).label = "live: on" if self.live else "live: off"
@@ -308,7 +316,7 @@ class LinkPanel(Vertical):
             note.remove_class("error")
 
     def _say(self, text: str, *, error: bool = False) -> None:
-        if not self.is_mounted:
+        if not self.is_mounted or self._gone:
             return
         status = self.query_one("#link-status", Static)
         status.update(f"[{self.state}] {text}")

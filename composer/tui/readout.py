@@ -47,10 +47,15 @@ class Readout(Static):
     DEFAULT_CSS = """
     Readout { height: auto; }
     """
+    _n_lines = -1
 
     def show(self, checks: FrameChecks, current: int, ms: int, animation_notes: list[str],
              engine: bool) -> None:
-        self.update(self._text(checks, current, ms, animation_notes, engine))
+        text = self._text(checks, current, ms, animation_notes, engine)
+        lines = text.plain.count("\n")
+        # a layout pass only when the readout grows or shrinks (edits rarely change its length)
+        self.update(text, layout=lines != self._n_lines)
+        self._n_lines = lines
 
     def _text(self, checks: FrameChecks, current: int, ms: int, notes: list[str], engine: bool) -> Text:
         t = Text()
