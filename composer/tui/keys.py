@@ -68,6 +68,10 @@ GROUPS: list[tuple[str, list[tuple[str, str, str, str | None]]]] = [
         ("!", "next_bad", "jump to the next frame over a limit", None),
         ("p", "play", "play / pause at the frames' durations", "play"),
     ]),
+    ("Generate", [
+        ("I", "import_image", "import an image or GIF as frames after this one", None),
+        ("T", "text_scroller", "make scrolling text (brush colour) as frames after this one", None),
+    ]),
     ("Link to the panel", [
         ("g", "toggle_link", "show the link panel / the readout", "link"),
         ("O", "pick_port", "choose a port or type a pyserial URL", None),

@@ -66,8 +66,8 @@ class LinkPanel(Vertical):
 
     def compose(self) -> ComposeResult:
         yield Label("link to the panel", classes="pane-title")
-        yield Select([(f"simulated receiver ({self.sim_url})", self.sim_url)], value=self.sim_url,
-                     allow_blank=False, id="port-select", compact=True)
+        yield Select([(f"simulated receiver ({self.sim_url})", self.sim_url)], prompt="choose a port…",
+                     id="port-select", compact=True)
         yield Input(self.url, placeholder="any pyserial URL or device path", id="port-url", compact=True)
         with Horizontal(id="link-buttons"):
             yield Button("connect", id="link-connect", compact=True)
@@ -102,9 +102,7 @@ class LinkPanel(Vertical):
     def on_link_panel_ports(self, message: "LinkPanel.Ports") -> None:
         select = self.query_one("#port-select", Select)
         choices = [(f"simulated receiver ({self.sim_url})", self.sim_url)] + message.options
-        select.set_options(choices)
-        values = {v for _t, v in choices}
-        select.value = self.url if self.url in values else self.sim_url
+        select.set_options(choices)           # leaves the URL box as it is: picking fills it
 
     @on(Select.Changed, "#port-select")
     def _picked(self, event: Select.Changed) -> None:

@@ -233,6 +233,22 @@ class Session:
             return 0
         return self.edit_animation(label, swap)
 
+    def insert_animation(self, anim: Animation, label: str) -> Edited | None:
+        """Insert another animation's frames after the current frame (an import, a text scroller)."""
+        if (anim.rows, anim.cols) != (self.anim.rows, self.anim.cols):
+            raise InputError(f"the new frames are {anim.rows}x{anim.cols}, the panel is "
+                             f"{self.anim.rows}x{self.anim.cols}")
+        at = self.current + 1
+
+        def put(a: Animation) -> int:
+            if a.n_frames + anim.n_frames > model.MAX_FRAMES:
+                raise InputError(f"{a.n_frames + anim.n_frames} frames: an animation holds at most "
+                                 f"{model.MAX_FRAMES}")
+            a.frames = np.concatenate([a.frames[:at], anim.frames, a.frames[at:]])
+            a.durations_ms = np.concatenate([a.durations_ms[:at], anim.durations_ms, a.durations_ms[at:]])
+            return at
+        return self.edit_animation(label, put)
+
     # -- files ------------------------------------------------------------------------------
     def save(self, path: Path | None = None) -> Path:
         target = Path(path) if path is not None else self.path
