@@ -1,0 +1,160 @@
+"""The installed ``rowcast`` in a real terminal: tmux (a general-purpose terminal multiplexer) runs
+it, ``send-keys`` types, ``capture-pane`` reads the screen, and the saved file is read back with
+tomllib (the standard library's TOML 1.0 parser). Also the crash path: kill -9 after edits, start
+again, recover the autosave.
+
+Must run in CI (need_tool fails loudly there when tmux or the installed command is missing).
+"""
+from __future__ import annotations
+
+import os
+import shlex
+import signal
+import subprocess
+import time
+import tomllib
+from pathlib import Path
+
+import pytest
+
+from conftest import need_tool
+from composer.model import Animation
+from composer.pattern_file import save_pattern
+
+pytestmark = pytest.mark.external
+
+
+class Tmux:
+    def __init__(self, tmux: str, folder: Path) -> None:
+        self.tmux, self.sock = tmux, str(folder / "tmux.sock")
+        self.sessions: list[str] = []
+
+    def run(self, *args: str, check: bool = True) -> str:
+        out = subprocess.run([self.tmux, "-S", self.sock, *args], capture_output=True, text=True, timeout=20)
+        if check and out.returncode:
+            raise AssertionError(f"tmux {' '.join(args)}: {out.stderr.strip()}")
+        return out.stdout
+
+    def start(self, name: str, command: str, env: dict[str, str], width: int = 80, height: int = 24) -> None:
+        exports = " ".join(f"{k}={shlex.quote(v)}" for k, v in env.items())
+        # exec: the pane's process is rowcast itself, so a kill reaches it and nothing else
+        self.run("new-session", "-d", "-s", name, "-x", str(width), "-y", str(height),
+                 f"exec env {exports} {command}")
+        self.sessions.append(name)
+
+    def screen(self, name: str) -> str:
+        return self.run("capture-pane", "-p", "-t", name, check=False)
+
+    def wait_for(self, name: str, text: str, timeout: float = 15.0) -> str:
+        deadline = time.monotonic() + timeout
+        screen = ""
+        while time.monotonic() < deadline:
+            screen = self.screen(name)
+            if text in screen:
+                return screen
+            time.sleep(0.1)
+        raise AssertionError(f"{text!r} never appeared; the screen was:\n{screen}")
+
+    def keys(self, name: str, *keys: str, gap: float = 0.08) -> None:
+        for key in keys:
+            self.run("send-keys", "-t", name, key)
+            time.sleep(gap)                      # a typist's pace; the app reads each key on its own
+
+    def alive(self, name: str) -> bool:
+        return subprocess.run([self.tmux, "-S", self.sock, "has-session", "-t", name],
+                              capture_output=True).returncode == 0
+
+    def pid(self, name: str) -> int:
+        return int(self.run("display-message", "-p", "-t", name, "#{pane_pid}").strip())
+
+    def close(self) -> None:
+        self.run("kill-server", check=False)
+
+
+@pytest.fixture
+def term(tmp_path):
+    t = Tmux(need_tool("tmux"), tmp_path)
+    yield t
+    t.close()
+
+
+def _env(tmp_path: Path) -> dict[str, str]:
+    return {"TERM": "xterm-256color", "XDG_STATE_HOME": str(tmp_path / "state"), "HOME": str(tmp_path),
+            "PATH": os.environ.get("PATH", ""), "LANG": "C.UTF-8", "LC_ALL": "C.UTF-8"}
+
+
+def _blank_pattern(tmp_path: Path) -> Path:
+    path = tmp_path / "door.rowcast.toml"
+    save_pattern(Animation.blank(8, 8, name="door", profile="bench-8x8"), path)
+    return path
+
+
+def _canvas_rows(screen: str) -> dict[int, str]:
+    rows = {}
+    for line in screen.splitlines():
+        parts = line.split("│")
+        if len(parts) >= 3 and parts[1][:3].strip().isdigit() and parts[1][3:4] in "·●▲◆○△◇":
+            rows.setdefault(int(parts[1][:3]), parts[1][3:].rstrip())
+    return rows
+
+
+def test_draw_add_frame_save_in_a_real_terminal(term, tmp_path):
+    rowcast = need_tool("rowcast")
+    path = _blank_pattern(tmp_path)
+    term.start("ed", f"{rowcast} edit {shlex.quote(str(path))}", _env(tmp_path))
+    term.wait_for("ed", "door")
+    term.keys("ed", "Space", "l", "2", "Space", "l", "3", "Space")          # red, green, amber in row 0
+    screen = term.wait_for("ed", "unsaved")
+    assert _canvas_rows(screen)[0].startswith("● ▲ ◆ ·"), screen
+    term.keys("ed", "a", "j", "Space")                                       # a new frame, amber at (1, 2)
+    term.keys("ed", "C-s")
+    screen = term.wait_for("ed", "saved /")
+    assert "frame 1 of 2" in screen and _canvas_rows(screen)[1].startswith("· · ◆"), screen
+    term.keys("ed", "q")
+    deadline = time.monotonic() + 10
+    while term.alive("ed") and time.monotonic() < deadline:
+        time.sleep(0.1)
+    assert not term.alive("ed"), "rowcast did not quit"
+    doc = tomllib.loads(path.read_text(encoding="utf-8"))
+    assert [f["leds"].splitlines()[0] for f in doc["frame"]] == ["rga.....", "........"]
+    assert doc["frame"][1]["leds"].splitlines()[1] == "..a....."
+    assert [f["ms"] for f in doc["frame"]] == [100, 100]
+
+
+def test_crash_then_recover_the_autosave(term, tmp_path):
+    rowcast = need_tool("rowcast")
+    path = _blank_pattern(tmp_path)
+    before = path.read_bytes()
+    env = _env(tmp_path)
+    term.start("one", f"{rowcast} edit {shlex.quote(str(path))}", env)
+    term.wait_for("one", "door")
+    term.keys("one", "2", "Space", "j", "l", "Space", "d")                   # two greens, then a duplicate
+    term.wait_for("one", "unsaved")
+    autosaves = tmp_path / "state" / "rowcast" / "autosave"
+    deadline = time.monotonic() + 10
+    while not any(autosaves.glob("door-*.rowcast.toml")) and time.monotonic() < deadline:
+        time.sleep(0.1)
+    assert any(autosaves.glob("door-*.rowcast.toml")), "no autosave was written"
+    time.sleep(2.5)                                                          # one more autosave period
+    os.kill(term.pid("one"), signal.SIGKILL)                                 # the crash
+    deadline = time.monotonic() + 5
+    while term.alive("one") and time.monotonic() < deadline:
+        time.sleep(0.1)
+    assert path.read_bytes() == before                                       # the file itself is untouched
+
+    term.start("two", f"{rowcast} edit {shlex.quote(str(path))}", env)
+    screen = term.wait_for("two", "Recover unsaved edits?")
+    assert "2 frames" in screen
+    term.keys("two", "Enter")                                                # "Recover" has the focus
+    term.wait_for("two", "recovered the autosave")
+    term.keys("two", "C-s")
+    term.wait_for("two", "saved /")
+    term.keys("two", "q")
+    doc = tomllib.loads(path.read_text(encoding="utf-8"))
+    assert len(doc["frame"]) == 2
+    for frame in doc["frame"]:
+        assert frame["leds"].splitlines()[:2] == ["g.......", ".g......"]
+    deadline = time.monotonic() + 5
+    while any(autosaves.glob("door-*.rowcast.toml")) and time.monotonic() < deadline:
+        time.sleep(0.1)
+    assert not any(autosaves.glob("door-*.rowcast.toml")), "the autosave outlived the save"
