@@ -449,6 +449,10 @@ def parse_profile(text: str, path: str = "<profile>") -> Profile:
     if rd["kind"] != expected_kind:
         raise ctx.fail("row_driver.kind", f'a common-{panel.common} panel needs a {expected_kind} row '
                        f'driver, not "{rd["kind"]}"')
+    if rd["tj_max_c"] <= rd["ambient_c"]:
+        # (Tj_max - Ta) / RthJA is the power the package may take: none at all is no circuit to check
+        raise ctx.fail("row_driver.tj_max_c", f"maximum junction temperature {rd['tj_max_c']:g} C is not above "
+                       f"the ambient {rd['ambient_c']:g} C: the driver could dissipate nothing")
     row_driver = RowDriver(**rd)
 
     column_register = ColumnRegister(**_section(ctx, data["column_register"], "column_register",

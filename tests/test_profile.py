@@ -66,6 +66,7 @@ BAD = [
      ["chain.bit_order", 'did you mean "msb-first"']),
     ("driver kind", _sub('kind = "source"', 'kind = "sink"'), ["row_driver.kind", "common-anode"]),
     ("drop model params", lambda t: re.sub(r"(?m)^drop_c_ohm = .*$", "", t), ["row_driver.drop_c_ohm", "log-linear"]),
+    ("junction limit at ambient", _sub("tj_max_c = 150.0", "tj_max_c = 20.0"), ["row_driver.tj_max_c", "ambient"]),
     ("blanking fills slot", _sub("blanking_us = 4.0", "blanking_us = 90.0"), ["scan.blanking_us"]),
     ("both timings", _sub("row_period_us = 90.0", "row_period_us = 90.0\nrefresh_hz = 100.0"),
      ["scan.row_period_us", "exactly one"]),
