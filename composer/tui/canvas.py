@@ -52,7 +52,6 @@ def _cell(code: int) -> tuple[str, Style]:
     return glyph, style
 
 
-_GAP = Segment(" ")
 _DIM = Style(dim=True)
 
 
@@ -69,6 +68,8 @@ class LedView(ScrollView, can_focus=False):
         self._frame = np.zeros((rows, cols), np.uint8)
         self._codes = np.zeros((rows, cols), np.uint16)
         self._strips: dict[int, Strip] = {}
+        self._base_style: Style | None = None
+        self._styled: dict[int, tuple[str, Style, bool]] = {}
         self.virtual_size = Size(GUTTER_W + CELL_W * cols, rows + 1)
         self.lines_rendered = 0       # for the benchmark: proves a redraw happened
 
@@ -108,47 +109,76 @@ class LedView(ScrollView, can_focus=False):
             return
         changed = np.flatnonzero(np.any(new != self._codes, axis=1))
         self._codes = new
+        if not len(changed):
+            return
         for r in changed.tolist():
             self._strips.pop(int(r), None)
-            self.refresh_line(int(r) + 1)
+        # one block from the first to the last changed row: the compositor handles one region far
+        # faster than many one-line regions, and the unchanged rows in between come from the cache
+        first, last = int(changed[0]), int(changed[-1])
+        self.refresh_lines(first + 1, last - first + 1)
 
     # -- drawing ----------------------------------------------------------------------------
     def _header(self) -> Strip:
         cols = self._codes.shape[1]
         text = " " * GUTTER_W + "".join(f"{c % 10} " for c in range(cols))
-        return Strip([Segment(text, _DIM)])
+        return Strip([Segment(text, self._base() + _DIM)])
+
+    def _base(self) -> Style:
+        if self._base_style is None:
+            self._base_style = self.rich_style   # costly to compute: once per style change
+            self._styled.clear()
+        return self._base_style
+
+    def _styled_cell(self, code: int) -> tuple[str, Style, bool]:
+        hit = self._styled.get(code)
+        if hit is None:
+            glyph, style = _cell(code)
+            hit = (glyph, self._base() + style, bool(style.underline))
+            self._styled[code] = hit
+        return hit
 
     def _row_strip(self, r: int) -> Strip:
         strip = self._strips.get(r)
         if strip is None:
+            base = self._base()
             codes = self._codes[r]
-            segments = [Segment(f"{r:>2} ", _DIM)]
+            segments = [Segment(f"{r:>2} ", base + _DIM)]
+            gap = Segment(" ", base)
             # one Segment per run of equal cells, not per LED
             edges = np.flatnonzero(np.diff(codes)) + 1
             starts = np.concatenate(([0], edges)).tolist()
             ends = np.concatenate((edges, [len(codes)])).tolist()
             for s, e in zip(starts, ends):
-                glyph, style = _cell(int(codes[s]))
-                if style.underline:
+                glyph, style, underline = self._styled_cell(int(codes[s]))
+                if underline:
                     segments.append(Segment((glyph + " ") * (e - s), style))
                 else:
                     segments.append(Segment(" ".join(glyph * (e - s)), style))
-                    segments.append(_GAP)
-            strip = Strip(segments)
+                    segments.append(gap)
+            strip = Strip(segments, GUTTER_W + CELL_W * len(codes))
             self._strips[r] = strip
         return strip
+
+    def notify_style_update(self) -> None:
+        super().notify_style_update()
+        self._base_style = None               # a theme or class change restyles every line
+        self._strips.clear()
 
     def render_line(self, y: int) -> Strip:
         scroll_x, scroll_y = self.scroll_offset
         y += scroll_y
         self.lines_rendered += 1
+        width = self.size.width
         if y == 0:
             strip = self._header()
         elif 1 <= y <= self._codes.shape[0]:
             strip = self._row_strip(y - 1)
         else:
-            return Strip.blank(self.size.width, self.rich_style)
-        return strip.crop(scroll_x, scroll_x + self.size.width).apply_style(self.rich_style)
+            return Strip.blank(width, self._base())
+        if scroll_x == 0 and strip.cell_length == width:
+            return strip                      # the usual case: the cached line as it is
+        return strip.crop(scroll_x, scroll_x + width).extend_cell_length(width, self._base())
 
 
 class LedCanvas(LedView, can_focus=True):

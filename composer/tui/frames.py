@@ -47,9 +47,10 @@ class FrameStrip(Widget, can_focus=False):
         self.playing = False
 
     def update_frames(self, durations, verdicts, current: int, selected: set[int], playing: bool = False) -> None:
-        self.durations = [int(d) for d in durations]
-        self.verdicts = list(verdicts)
-        self.current, self.selected, self.playing = current, set(selected), playing
+        state = ([int(d) for d in durations], list(verdicts), current, set(selected), playing)
+        if state == (self.durations, self.verdicts, self.current, self.selected, self.playing):
+            return                            # a cursor move: the strip stays as it is
+        self.durations, self.verdicts, self.current, self.selected, self.playing = state
         self.refresh()
 
     def _first_visible(self) -> int:

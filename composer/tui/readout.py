@@ -7,8 +7,12 @@ shows how far a frame goes over it, so the limit is the boundary between the two
 from __future__ import annotations
 
 import numpy as np
+from rich.segment import Segment
+from rich.style import Style
 from rich.text import Text
-from textual.widgets import Static
+from textual.geometry import Region, Size
+from textual.strip import Strip
+from textual.widget import Widget
 
 from .analysis import FrameChecks, FrameResult
 
@@ -43,23 +47,85 @@ def sparkline(values: np.ndarray, limit: float, width: int, current: int) -> tup
     return "".join(_LEVELS[u] for u in upper), "".join(_LEVELS[v] for v in lower), col
 
 
-class Readout(Static):
+class Readout(Widget):
+    """Drawn line by line: an edit re-renders only the lines whose text changed (a row's bar, the
+    summary lines, the sparkline), not the whole pane."""
+
     DEFAULT_CSS = """
-    Readout { height: auto; }
+    Readout { height: auto; width: 1fr; }
     """
-    _n_lines = -1
+
+    def __init__(self, **kw) -> None:
+        super().__init__(**kw)
+        self._lines: list[Text] = []
+        self._strips: dict[int, Strip] = {}
+        self._width = 0
+        self._args: tuple | None = None
+        self._base: Style | None = None
 
     def show(self, checks: FrameChecks, current: int, ms: int, animation_notes: list[str],
              engine: bool) -> None:
-        text = self._text(checks, current, ms, animation_notes, engine)
-        lines = text.plain.count("\n")
-        # a layout pass only when the readout grows or shrinks (edits rarely change its length)
-        self.update(text, layout=lines != self._n_lines)
-        self._n_lines = lines
+        self._args = (checks, current, ms, list(animation_notes), engine)
+        self._rebuild()
 
-    def _text(self, checks: FrameChecks, current: int, ms: int, notes: list[str], engine: bool) -> Text:
+    def on_resize(self) -> None:
+        self._strips.clear()
+        self._rebuild(force=True)
+
+    def _rebuild(self, force: bool = False) -> None:
+        if self._args is None:
+            return
+        width = self.size.width or 40
+        self._width = width
+        text = self._text(*self._args, width=width)
+        lines = []
+        for line in text.split("\n", allow_blank=True):
+            if line.cell_len <= width:
+                lines.append(line)
+            else:                             # long notes wrap; nothing is cut off
+                lines.extend(line.wrap(self.app.console, width))
+        while lines and not lines[-1].plain:
+            lines.pop()
+        for line in lines:
+            line.end = ""                     # one terminal line each: no newline segment
+        old = self._lines
+        self._lines = lines
+        if len(lines) != len(old):
+            self._strips.clear()
+            self.refresh(layout=True)
+            return
+        for y, (a, b) in enumerate(zip(old, lines)):
+            if force or a != b:
+                self._strips.pop(y, None)
+                self.refresh(Region(0, y, width, 1))
+
+    def get_content_height(self, container: Size, viewport: Size, width: int) -> int:
+        return max(1, len(self._lines))
+
+    def notify_style_update(self) -> None:
+        super().notify_style_update()
+        self._base = None
+        self._strips.clear()
+
+    def render_line(self, y: int) -> Strip:
+        strip = self._strips.get(y)
+        if strip is None:
+            if self._base is None:
+                self._base = self.rich_style      # costly: once per style change, not per line
+            width = self.size.width
+            if y >= len(self._lines):
+                return Strip.blank(width, self._base)
+            line = self._lines[y]
+            segments = [Segment(seg.text, self._base + seg.style if seg.style else self._base)
+                        for seg in line.render(self.app.console)]
+            strip = Strip(segments, line.cell_len).extend_cell_length(width, self._base).crop(0, width)
+            self._strips[y] = strip
+        return strip
+
+    def _text(self, checks: FrameChecks, current: int, ms: int, notes: list[str], engine: bool, *,
+              width: int = 40) -> Text:
         t = Text()
-        width = max(20, (self.size.width or 40))
+        width = max(20, width)
         if not engine:
             t.append("electrical engine not installed: no currents to show\n", "dim")
             return t
@@ -85,8 +151,6 @@ class Readout(Static):
         t.append(f"supply peak {res.supply_peak_ma:.0f} mA · average {res.supply_avg_ma:.0f} mA\n")
         for line in res.messages[:3]:
             t.append(f"! {line}\n", _BAD)
-        for line in notes:
-            t.append(line + "\n", _BAD if line.startswith("!") else "dim")
         values = checks.worst_rows()
         upper, lower, col = sparkline(values, limit, max(8, width - 8), current)
         t.append("worst row by frame\n", "dim")
@@ -96,4 +160,7 @@ class Readout(Static):
         t.append(lower[:col], _OK)
         t.append(lower[col:col + 1] or " ", "reverse")
         t.append(lower[col + 1:], _OK)
+
+        for line in notes:
+            t.append("\n" + line, _BAD if line.startswith("!") else "dim")
         return t

@@ -1,0 +1,214 @@
+"""Composer responsiveness: keypress -> screen updated, and start-up -> first paint.
+
+Keypress latency: the composer runs under Textual's Pilot (headless) on a 64-frame 16x16 animation.
+Each key event goes to the app's driver exactly as a terminal's would; the time stops when the
+screen's compositor has rendered the update the key caused (the step before bytes go to the
+terminal). Keys mix cursor moves, paints (one frame re-analysed by the engine), frame changes,
+mirrors and undo. The floor is a one-widget Textual app updating a counter on each key, measured
+the same way in the same run: the ratio says how much of the latency is ours.
+
+Start-up: a fresh interpreter runs ``rowcast edit`` headless and reports its first paint of the
+editor; the floor is a fresh interpreter painting a one-widget Textual app. Median of 5 each.
+
+Goals (issue 4): keypress median <= 16 ms, p95 <= 33 ms; start-up <= 1.5 s.
+Usage: python tests/bench/bench_tui.py [presses]
+"""
+from __future__ import annotations
+
+import asyncio
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+
+ROOT = Path(__file__).resolve().parents[2]
+sys.path.insert(0, str(ROOT))
+
+from composer.model import Animation  # noqa: E402
+from composer.pattern_file import save_pattern  # noqa: E402
+from composer.profile import PROFILES_DIR, load_profile  # noqa: E402
+
+GOAL_MEDIAN_MS, GOAL_P95_MS, GOAL_START_S = 16.0, 33.0, 1.5
+KEYS = ["l", "space", "j", "space", "l", "t", "right_square_bracket", "space", "vertical_line", "z",
+        "h", "k", "space", "left_square_bracket", "f", "z"]
+
+
+def make_16x16(folder: Path) -> Path:
+    """A 16x16 profile: the bundled 16x8 panel with a second row register (rows 8-15)."""
+    text = (PROFILES_DIR / "wide-16x8.toml").read_text()
+    text = text.replace('name = "wide-16x8"', 'name = "bench-16x16"').replace("rows = 8\n", "rows = 16\n", 1)
+    extra = ('[[chain.register]]\nname = "U1b rows"\ndrives = "rows"\nlines = [8, 9, 10, 11, 12, 13, 14, 15]\n'
+             'active = "high"\n\n')
+    text = text.replace('[[chain.register]]\nname = "U2 red left"', extra + '[[chain.register]]\nname = "U2 red left"')
+    path = folder / "bench-16x16.toml"
+    path.write_text(text)
+    load_profile(path)                         # validated like any profile
+    return path
+
+
+def make_animation(folder: Path, profile: Path) -> Path:
+    rng = np.random.default_rng(1)
+    anim = Animation.blank(16, 16, frames=64, name="bench", profile=str(profile))
+    sparse = rng.random(anim.frames.shape) < 0.15   # sparse enough to stay mostly within the limits
+    anim.frames[:] = np.where(sparse, rng.integers(1, 4, anim.frames.shape), 0).astype(np.uint8)
+    path = folder / "bench.rowcast.toml"
+    save_pattern(anim, path)
+    return path
+
+
+async def measure(app, screen_of, keys: list[str], presses: int) -> list[float]:
+    """Send ``presses`` keys one at a time; return ms from key to the compositor's next update."""
+    from textual import events
+    from textual.keys import _character_to_key
+    latencies: list[float] = []
+    async with app.run_test(size=(120, 40)) as pilot:
+        await pilot.pause(0.5)
+        screen = screen_of(app)
+        stamps: list[float] = []
+        original = screen._compositor_refresh
+
+        def timed_refresh(*a, **k):
+            result = original(*a, **k)
+            stamps.append(time.perf_counter())
+            return result
+        screen._compositor_refresh = timed_refresh
+        for i in range(presses):
+            key = keys[i % len(keys)]
+            name = _character_to_key(key) if len(key) == 1 and not key.isalnum() else key
+            char = " " if name == "space" else (key if len(key) == 1 else None)
+            stamps.clear()
+            t0 = time.perf_counter()
+            app._driver.send_message(events.Key(name, char))
+            for _ in range(400):                # a key that changes nothing on screen is not counted
+                await asyncio.sleep(0.0005)
+                if stamps:
+                    break
+            if stamps:
+                latencies.append((stamps[0] - t0) * 1000)
+            await asyncio.sleep(0.01)          # the next key comes after the screen settled
+        screen._compositor_refresh = original
+    return latencies
+
+
+def floor_app():
+    from textual.app import App
+    from textual.widgets import Static
+
+    class Floor(App):
+        n = 0
+
+        def compose(self):
+            yield Static("0", id="n")
+
+        def on_key(self, event) -> None:
+            self.n += 1
+            self.query_one("#n", Static).update(str(self.n))
+    return Floor()
+
+
+_CHILD_OURS = """
+import sys, time
+from pathlib import Path
+from composer.tui.app import RowcastApp, Startup, EditorScreen
+app = RowcastApp(Startup(Path(sys.argv[1]), None, None, autosave_enabled=False))
+orig = EditorScreen._compositor_refresh
+def painted(self, *a, **k):
+    orig(self, *a, **k)
+    print("PAINTED", flush=True)
+    app.exit(0)
+EditorScreen._compositor_refresh = painted
+app.run(headless=True, size=(120, 40))
+"""
+
+_CHILD_FLOOR = """
+from textual.app import App
+from textual.screen import Screen
+from textual.widgets import Static
+class Floor(App):
+    def compose(self):
+        yield Static("hello")
+orig = Screen._compositor_refresh
+def painted(self, *a, **k):
+    orig(self, *a, **k)
+    print("PAINTED", flush=True)
+    app.exit(0)
+Screen._compositor_refresh = painted
+app = Floor()
+app.run(headless=True, size=(120, 40))
+"""
+
+
+def startup_s(code: str, *args: str) -> float:
+    t0 = time.perf_counter()
+    proc = subprocess.Popen([sys.executable, "-c", code, *args], stdout=subprocess.PIPE, text=True, cwd=ROOT)
+    for line in proc.stdout:
+        if line.startswith("PAINTED"):
+            elapsed = time.perf_counter() - t0
+            break
+    else:
+        raise SystemExit("the child never painted")
+    proc.wait(timeout=30)
+    return elapsed
+
+
+def pct(values: list[float], q: float) -> float:
+    return float(np.percentile(np.array(values), q))
+
+
+def main() -> int:
+    presses = int(sys.argv[1]) if len(sys.argv) > 1 else 320
+    from composer.tui.app import EditorScreen, RowcastApp, Startup
+    folder = Path(tempfile.mkdtemp(prefix="rowcast-bench-"))
+    pattern = make_animation(folder, make_16x16(folder))
+
+    app = RowcastApp(Startup(pattern, None, None, autosave_enabled=False))
+    editor = lambda a: next(s for s in a.screen_stack if isinstance(s, EditorScreen))  # noqa: E731
+    analysed = {}
+
+    async def run_ours():
+        lat = await measure(app, editor, KEYS, presses)
+        return lat
+    ours = asyncio.run(run_ours())
+    floor = asyncio.run(measure(floor_app(), lambda a: a.screen, ["l"], presses))
+
+    # the readout re-analyses only the edited frame: one paint = one frame through the engine
+    async def count_analysed():
+        app2 = RowcastApp(Startup(pattern, None, None, autosave_enabled=False))
+        async with app2.run_test(size=(120, 40)) as pilot:
+            await pilot.pause()
+            ed = editor(app2)
+            before = ed.checks.analysed_frames
+            await pilot.press("l", "space")
+            analysed["paint"] = ed.checks.analysed_frames - before
+            before = ed.checks.analysed_frames
+            await pilot.press("d")
+            analysed["duplicate"] = ed.checks.analysed_frames - before
+    asyncio.run(count_analysed())
+
+    starts_ours = [startup_s(_CHILD_OURS, str(pattern)) for _ in range(5)]
+    starts_floor = [startup_s(_CHILD_FLOOR) for _ in range(5)]
+
+    med, p95 = statistics.median(ours), pct(ours, 95)
+    fmed, fp95 = statistics.median(floor), pct(floor, 95)
+    s_ours, s_floor = statistics.median(starts_ours), statistics.median(starts_floor)
+    print(f"keypress -> screen updated, 64 frames of 16x16: {len(ours)} of {presses} keys changed the screen "
+          f"({', '.join(dict.fromkeys(KEYS))})")
+    print(f"  composer: median {med:6.2f} ms  p95 {p95:6.2f} ms  max {max(ours):6.2f} ms "
+          f"(goals {GOAL_MEDIAN_MS:g} / {GOAL_P95_MS:g} ms)")
+    print(f"  floor (one-widget app): median {fmed:6.2f} ms  p95 {fp95:6.2f} ms")
+    print(f"  ratio composer/floor: median {med / fmed:5.2f}  p95 {p95 / fp95:5.2f}")
+    print(f"  frames through the engine: {analysed['paint']} per paint, {analysed['duplicate']} per duplicate")
+    print(f"start-up -> first paint (fresh interpreter, median of 5)")
+    print(f"  composer {s_ours:5.2f} s  floor {s_floor:5.2f} s  ratio {s_ours / s_floor:4.2f} "
+          f"(goal {GOAL_START_S:g} s)")
+    ok = med <= GOAL_MEDIAN_MS and p95 <= GOAL_P95_MS and s_ours <= GOAL_START_S and analysed["paint"] <= 1
+    print("PASS" if ok else "FAIL")
+    return 0 if ok else 1
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
