@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import os
 import signal
+import stat
 import subprocess
 import sys
 import textwrap
@@ -245,6 +246,24 @@ def test_save_keeps_one_backup(tmp_path):
 def test_save_into_missing_folder_is_one_line(tmp_path):
     with pytest.raises(InputError, match="folder does not exist"):
         save_pattern(parse_pattern(GOOD), tmp_path / "nope" / "x.rowcast.toml")
+
+
+def test_save_refused_by_the_folder_is_one_line(tmp_path):
+    # /proc accepts no new files (Linux procfs, even for root): the OS error becomes one line naming the file
+    with pytest.raises(InputError, match=r"^/proc/x\.rowcast\.toml: cannot write: "):
+        save_pattern(parse_pattern(GOOD), "/proc/x.rowcast.toml")
+
+
+def test_save_gives_the_permissions_a_plain_write_would(tmp_path):
+    # POSIX open(2): a new file gets 0666 less the umask; a replaced file keeps its own mode
+    path = tmp_path / "m.rowcast.toml"
+    with open(tmp_path / "plain", "w"):
+        pass
+    save_pattern(parse_pattern(GOOD), path)
+    assert stat.S_IMODE(path.stat().st_mode) == stat.S_IMODE((tmp_path / "plain").stat().st_mode)
+    path.chmod(0o640)
+    save_pattern(parse_pattern(GOOD), path)
+    assert stat.S_IMODE(path.stat().st_mode) == 0o640
 
 
 def test_kill_during_save_leaves_old_or_new_file_whole(tmp_path):
