@@ -529,3 +529,69 @@ async def test_resize_switches_layout(tmp_path):
         assert ed.query_one("#link-pane").region.width > 0 and ed.query_one("#readout-pane").region.width > 0
         text = screen_text(app)
         assert "link to the panel" in text and "row current" in text
+
+
+@async_test
+async def test_demo_is_read_only_and_previews_on_the_simulated_receiver(tmp_path, monkeypatch):
+    from composer.bundled import DEMO_PATTERN
+    from composer.pattern_file import load_pattern as load
+    from composer.tui import command
+    monkeypatch.setenv("XDG_STATE_HOME", str(tmp_path / "state"))
+    started = {}
+    monkeypatch.setattr(command, "_run_app", lambda startup: started.setdefault("s", startup) and 0)
+    command.run_demo()
+    st = started["s"]
+    assert st.path == DEMO_PATTERN and st.read_only and st.port.startswith("simrx://")
+    original = DEMO_PATTERN.read_bytes()
+    from composer.tui.app import RowcastApp
+    st.autosave_enabled = False
+    app = RowcastApp(st)
+    async with app.run_test(size=(120, 40)) as pilot:
+        ed = editor(app)
+        panel = ed.query_one("#link-pane")
+        for _ in range(100):
+            await pilot.pause(0.05)
+            if panel._shown is not None and np.array_equal(panel._shown, ed.session.frame):
+                break
+        assert np.array_equal(panel._shown, ed.session.frame)            # the receiver shows frame 0
+        await pilot.press("space", "ctrl+s")
+        await pilot.pause()
+        assert app.screen.id == "ask-save-as"                            # never onto the bundled file
+        await pilot.press("escape")
+    assert DEMO_PATTERN.read_bytes() == original and load(DEMO_PATTERN).name
+
+
+@async_test
+async def test_image_import_and_text_scroller_dialogs(tmp_path):
+    from composer.generate import text_animation
+    image = tmp_path / "dot.png"
+    im = Image.new("RGB", (8, 8))
+    im.putpixel((6, 1), (255, 0, 0))                  # one red pixel at row 1, column 6
+    im.putpixel((2, 5), (0, 255, 0))                  # one green pixel at row 5, column 2
+    im.save(image)
+    app = app_for(make_pattern(tmp_path, frames=2))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        s = editor(app).session
+        await pilot.press("I")
+        await pilot.pause()
+        assert app.screen.id == "ask-import"
+        app.screen.query_one("#ask-input").value = str(tmp_path / "missing.png")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert "file not found" in screen_text(app)
+        app.screen.query_one("#ask-input").value = str(image)
+        await pilot.press("enter")
+        await pilot.pause()
+        assert s.anim.n_frames == 3 and s.current == 1
+        assert s.frame[1, 6] == RED and s.frame[5, 2] == GREEN and (s.frame != OFF).sum() == 2
+        await pilot.press("2", "T")
+        await pilot.pause()
+        app.screen.query_one("#ask-input").value = "Hi"
+        await pilot.press("enter")
+        await pilot.pause()
+        want = text_animation("Hi", s.profile, colour="green")
+        assert s.anim.n_frames == 3 + want.n_frames
+        assert np.array_equal(s.anim.frames[2:2 + want.n_frames], want.frames)
+        await pilot.press("z", "z")
+        assert s.anim.n_frames == 2

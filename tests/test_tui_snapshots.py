@@ -70,6 +70,7 @@ def test_link_panel(snap_compare, demo_copy, size):
             if panel.link is not None and panel.link.connected and panel._shown is not None \
                     and np.array_equal(panel._shown, ed.session.frame):
                 break
+        assert np.array_equal(panel._shown, ed.session.frame), "the receiver never showed the frame"
         await pilot.press("g")
         await _settle(pilot)
 

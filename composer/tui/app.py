@@ -90,6 +90,7 @@ class EditorScreen(Screen):
         self.checks.full(self.session.anim)
         self.redraw(full=True)
         self.query_one(LedCanvas).focus()
+        self.query_one("#link-pane").frame_edited(self.session.frame)   # what live mode sends on connect
         if self.startup.autosave_enabled:
             self.set_interval(autosave.AUTOSAVE_EVERY_S, self.autosave_tick)
         self.schedule_animation_check()
