@@ -595,3 +595,27 @@ async def test_image_import_and_text_scroller_dialogs(tmp_path):
         assert np.array_equal(s.anim.frames[2:2 + want.n_frames], want.frames)
         await pilot.press("z", "z")
         assert s.anim.n_frames == 2
+
+
+def test_readme_lists_every_key():
+    """The README's composer section names every key and what it does (the table in keys.py)."""
+    from composer.tui.help import key_label
+    from conftest import ROOT
+    text = (ROOT / "README.md").read_text(encoding="utf-8")
+    section = text[text.index("### edit (the composer)"):]
+    section = section[:section.index("\n## ")]
+    for _group, rows in GROUPS:
+        for keys, _action, description, _f in rows:
+            assert description.replace("|", "\\|") in section, description
+            for label in key_label(keys).split(" "):
+                assert f"`{label.replace('|', chr(92) + '|')}`" in section, (keys, label)
+
+
+def test_bad_profile_argument_is_exit_2_in_one_line(tmp_path):
+    import subprocess
+    import sys
+    out = subprocess.run([sys.executable, "-m", "composer", "edit", str(tmp_path / "x.rowcast.toml"),
+                          "--profile", "no-such-profile"], capture_output=True, text=True, timeout=60)
+    assert out.returncode == 2
+    lines = out.stderr.strip().splitlines()
+    assert len(lines) == 1 and "no-such-profile" in lines[0] and "Traceback" not in out.stderr
