@@ -284,7 +284,8 @@ def test_rowcast_sim_bad_input_is_one_line_exit_2(tmp_path):
 
     for argv, names in ((["--records", str(tmp_path / "no" / "such" / "rec.txt")], "--records"),
                         (["--profile", "no-such-profile"], "no-such-profile"),
-                        (["--seconds", "0"], "--seconds")):
+                        (["--seconds", "0"], "--seconds"),
+                        (["--seconds", "nan"], "--seconds")):
         done = subprocess.run([sys.executable, "-m", "composer", "sim", *argv], capture_output=True, text=True,
                               timeout=60)
         assert done.returncode == 2, (argv, done.stderr)

@@ -8,6 +8,7 @@ wall-clock time so animations play at their real speed.
 from __future__ import annotations
 
 import argparse
+import math
 import signal
 import sys
 import time
@@ -37,8 +38,8 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    if args.seconds is not None and args.seconds <= 0:
-        raise InputError(f"--seconds {args.seconds:g}: must be more than 0")
+    if args.seconds is not None and not 0 < args.seconds < math.inf:   # nan fails both comparisons
+        raise InputError(f"--seconds {args.seconds:g}: must be a finite number of seconds above 0")
     for option, value in (("--records", args.records), ("--link", args.link)):
         if value is not None and not Path(value).expanduser().resolve().parent.is_dir():
             raise InputError(f"{option} {value}: the folder {Path(value).parent} does not exist")
