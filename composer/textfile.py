@@ -5,10 +5,14 @@ import re
 from pathlib import Path
 
 from .errors import InputError
+from .model import MAX_FRAMES, MAX_SIDE
 
 __all__ = ["read_text_file", "find_key_line", "MAX_FILE_BYTES"]
 
-MAX_FILE_BYTES = 64 * 1024 * 1024  # 10,000 frames of 256x256 fit well inside this
+# The largest legal pattern must be readable: MAX_FRAMES frames of MAX_SIDE rows of MAX_SIDE LEDs, each row
+# ended by CRLF, plus a frame's own lines (about 40 bytes; 256 allowed) and 1 MiB for the header and notes.
+# Anything bigger is refused before it is read into memory.
+MAX_FILE_BYTES = MAX_FRAMES * (MAX_SIDE * (MAX_SIDE + 2) + 256) + 1024 * 1024
 
 
 def read_text_file(path: str | Path) -> str:

@@ -180,6 +180,18 @@ def test_size_limits_refused(tmp_path):
         load_pattern(many)
 
 
+def test_the_largest_legal_pattern_is_under_the_file_size_limit():
+    # Issue 2's limits (10,000 frames of 256x256) must be readable back: the text of one more
+    # largest frame, written with CRLF line ends (accepted on reading), times the frame limit, fits.
+    from composer.model import MAX_FRAMES, MAX_MS, MAX_SIDE
+    from composer.textfile import MAX_FILE_BYTES
+    full = np.full((2, MAX_SIDE, MAX_SIDE), 3, np.uint8)
+    one = dump_pattern(Animation(full[:1], [MAX_MS], name="x", profile="bench-8x8"))
+    two = dump_pattern(Animation(full, [MAX_MS] * 2, name="x", profile="bench-8x8"))
+    per_frame = len(two.replace("\n", "\r\n")) - len(one.replace("\n", "\r\n"))
+    assert len(one) + (MAX_FRAMES - 1) * per_frame <= MAX_FILE_BYTES
+
+
 def test_profile_mismatch_is_reported(tmp_path):
     path = tmp_path / "p.rowcast.toml"
     path.write_text(GOOD)
