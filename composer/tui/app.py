@@ -66,6 +66,7 @@ class EditorScreen(Screen):
         self.animation_notes: list[str] = []
         self.message = ""
         self._lines: dict[str, str] = {}
+        self._guard_cache: dict[bytes, str] = {}
 
     # -- layout -----------------------------------------------------------------------------
     def compose(self) -> ComposeResult:
@@ -108,7 +109,7 @@ class EditorScreen(Screen):
                                                  s.selected, self.playing)
         if readout or full:
             self.query_one(Readout).show(self.checks, s.current, int(s.anim.durations_ms[s.current]),
-                                         self.animation_notes, engine_available())
+                                         self._guard_notes() + self.animation_notes, engine_available())
         self._update_title()
         self._update_tool()
 
@@ -210,8 +211,28 @@ class EditorScreen(Screen):
             return                      # the animation changed meanwhile; a newer check is queued
         self.animation_notes = notes
         s = self.session
-        self.query_one(Readout).show(self.checks, s.current, int(s.anim.durations_ms[s.current]), notes,
-                                     engine_available())
+        self.query_one(Readout).show(self.checks, s.current, int(s.anim.durations_ms[s.current]),
+                                     self._guard_notes() + notes, engine_available())
+
+    def _guard_notes(self) -> list[str]:
+        """The guard's verdict on the frame (the stress corner, what the link applies before sending)."""
+        if not engine_available():
+            return []
+        frame = self.session.frame
+        key = frame.tobytes()
+        line = self._guard_cache.get(key)
+        if line is None:
+            from ..electrical import guard
+            try:
+                verdict = guard(frame, self.session.profile)
+                line = ("guard (stress corner): would send" if verdict.ok else
+                        "! guard (stress corner) would block: " + "; ".join(str(r) for r in verdict.reasons[:2]))
+            except RowcastError as err:
+                line = f"! guard: {err}"
+            if len(self._guard_cache) > 512:
+                self._guard_cache.clear()
+            self._guard_cache[key] = line
+        return [line]
 
     # -- autosave ---------------------------------------------------------------------------
     def autosave_tick(self) -> None:
