@@ -124,7 +124,8 @@ def main() -> int:
         assert all(guard(f, p).ok for f in quiet[:5]) and not any(guard(f, p).ok for f in busy[:5])
         print(f"guard {name}: passing frame {t_ok:.0f} us, first sight of a blocked frame {t_blocked:.0f} us, "
               f"repeated frame {t_repeat:.0f} us (goal <= {goal:.0f} us)")
-        ok &= t_ok <= goal
+        # the goal is for any one frame: a blocked frame seen for the first time counts as much as a passing one
+        ok &= max(t_ok, t_blocked) <= goal
     print("all goals met" if ok else "GOAL MISSED")
     return 0 if ok else 1
 
