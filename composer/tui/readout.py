@@ -62,6 +62,7 @@ class Readout(Widget):
         self._width = 0
         self._args: tuple | None = None
         self._base: Style | None = None
+        self._height = 0
 
     def show(self, checks: FrameChecks, current: int, ms: int, animation_notes: list[str],
              engine: bool) -> None:
@@ -70,6 +71,7 @@ class Readout(Widget):
 
     def on_resize(self) -> None:
         self._strips.clear()
+        self._height = 0                      # wrapping changes with the width: measure again
         self._rebuild(force=True)
 
     def _rebuild(self, force: bool = False) -> None:
@@ -88,6 +90,10 @@ class Readout(Widget):
             lines.pop()
         for line in lines:
             line.end = ""                     # one terminal line each: no newline segment
+        # the height only grows (blank lines pad a shorter readout): frames with more or fewer
+        # findings then cost no layout pass when the user steps through them
+        self._height = max(self._height, len(lines))
+        lines += [Text("", end="") for _ in range(self._height - len(lines))]
         old = self._lines
         self._lines = lines
         if len(lines) != len(old):
