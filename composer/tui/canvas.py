@@ -4,7 +4,7 @@ lines that changed.
 Every LED state has its own glyph as well as a colour, so the picture reads in 16-colour and
 NO_COLOR terminals: off ``·`` (dim), red ``●``, green ``▲``, amber ``◆``. With the onion skin on,
 an off LED that was lit in the previous frame shows that frame's hollow glyph (``○ △ ◇``, dim).
-The cursor is drawn in reverse video, the region between the mark and the cursor underlined.
+The cursor is drawn in inverse colours, the region between the mark and the cursor underlined.
 
 :class:`LedView` draws a frame; :class:`LedCanvas` adds the cursor, mark and onion skin and is
 the one the user edits. The device preview in the link panel is a plain :class:`LedView`.

@@ -3,7 +3,7 @@ three lines, scrolled so the frame on the canvas is always in view.
 
 A verdict reads without colour: ``ok`` within every limit, ``!row`` / ``!pin`` ... names the
 first rule the frame breaks, ``..`` not checked yet (no engine). ``*`` marks frames picked for
-"set duration"; the frame on the canvas is in reverse video.
+"set duration"; the frame on the canvas is in inverse colours.
 """
 from __future__ import annotations
 
