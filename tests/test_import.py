@@ -207,13 +207,20 @@ def test_cli_bad_images_exit_2_one_line_nothing_written(tmp_path, capsys, conten
     assert not out.exists()
 
 
+def _verdict_exit(anim, prof) -> int:
+    """What a command that checks what it wrote must exit with: rowcast check's verdict (stress corner)."""
+    from composer.electrical import analyse
+    return 1 if analyse(anim.frames, anim.durations_ms, prof, corner="stress").violations else 0
+
+
 def test_cli_import_writes_a_pattern_that_opens(tmp_path, capsys):
     src = tmp_path / "in.gif"
     frames = np.random.default_rng(2).integers(0, 4, (3, 8, 8)).astype(np.uint8)
     _save_gif(src, _frames_to_images(frames, 2), [100, 200, 300])
     out = tmp_path / "out.rowcast.toml"
-    assert main(["import", str(src), "--profile", "bench-8x8", "-o", str(out), "--crop"]) == 0
+    status = main(["import", str(src), "--profile", "bench-8x8", "-o", str(out), "--crop"])
     anim, prof = open_pattern(out)
+    assert status == _verdict_exit(anim, prof)
     assert np.array_equal(anim.frames, frames) and prof.name == "bench-8x8"
 
 
@@ -226,8 +233,9 @@ def test_cli_import_with_a_profile_file_names_it_relative_to_the_pattern(tmp_pat
     src = tmp_path / "in.png"
     Image.new("RGB", (8, 8), (0, 255, 0)).save(src)
     out = tmp_path / "out" / "p.rowcast.toml"
-    assert main(["import", str(src), "--profile", str(prof_copy), "-o", str(out)]) == 0
+    status = main(["import", str(src), "--profile", str(prof_copy), "-o", str(out)])
     anim, prof = open_pattern(out)          # resolves ../panels/mine.toml from the pattern's folder
+    assert status == _verdict_exit(anim, prof) == 1  # a whole panel of green overloads every register package
     assert anim.profile == "../panels/mine.toml" and (anim.frames == GREEN).all()
 
 

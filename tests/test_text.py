@@ -68,11 +68,18 @@ def test_bad_text_is_refused(bench_profile, message, needle):
         text_animation(message, bench_profile)
 
 
+def _verdict_exit(anim, prof) -> int:
+    """What a command that checks what it wrote must exit with: rowcast check's verdict (stress corner)."""
+    from composer.electrical import analyse
+    return 1 if analyse(anim.frames, anim.durations_ms, prof, corner="stress").violations else 0
+
+
 def test_cli_text(tmp_path, capsys):
     out = tmp_path / "t.rowcast.toml"
-    assert main(["text", "HELLO", "--profile", "bench-8x8", "-o", str(out), "--speed", "10", "--colour",
-                 "amber"]) == 0
+    status = main(["text", "HELLO", "--profile", "bench-8x8", "-o", str(out), "--speed", "10", "--colour",
+                   "amber"])
     anim, prof = open_pattern(out)
+    assert status == _verdict_exit(anim, prof)
     assert anim.durations_ms[0] == 100 and set(np.unique(anim.frames)) == {0, AMBER}
 
 

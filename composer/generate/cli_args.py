@@ -38,9 +38,10 @@ def ms_arg(text: str) -> int:
 
 def warn_if_over(anim, profile, path: Path, command: str) -> int:
     """Exit status for a command that wrote a pattern: 1 with a one-line warning when the electrical
-    check finds anything over a limit (the pattern is still written: it may be edited down)."""
+    check finds anything over a limit at the stress corner, as rowcast check judges it (the pattern is
+    still written: it may be edited down)."""
     from ..exports.check import check_report
-    report = check_report(anim, profile)
+    report = check_report(anim, profile, corner="stress")
     if not list(report.violations):
         return 0
     sys.stderr.write(f"rowcast {command}: wrote {path}, but it is over a limit of profile {profile.name} "
