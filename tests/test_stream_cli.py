@@ -28,7 +28,7 @@ def test_stream_plays_every_frame(capsys):
                          "--port", "simrx://bench-8x8?name=cli-kettle")
     assert code == 0, err
     lines = out.splitlines()
-    assert lines[0].startswith("frame 1/7 300 ms: shown (seq ")
+    assert lines[0].startswith("frame 0 (1 of 7) 300 ms: shown (seq ")  # frames count from 0, as in rowcast check
     assert lines[-1].startswith("played 7 frames in ") and "7 shown" in lines[-1]
     assert "link: connected to simrx://bench-8x8" in err
     rx = receiver_named("cli-kettle")
@@ -40,7 +40,7 @@ def test_over_limit_pattern_sends_nothing_and_exits_1(capsys):
     code, out, err = run(capsys, "stream", str(PATTERNS / "overload-sweep.rowcast.toml"),
                          "--port", "simrx://bench-8x8?name=cli-overload")
     assert code == 1
-    assert "frame 1: blocked by the guard: " in err and "nothing sent" in err
+    assert "frame 0: blocked by the guard: " in err and "nothing sent" in err
     assert receiver_named("cli-overload") is None          # the port was never even opened
     assert all("\n" not in line for line in err.splitlines())
 

@@ -47,7 +47,7 @@ def run(args: argparse.Namespace) -> int:
             blocked.append((i, verdict))
     if blocked:
         for i, verdict in blocked:
-            print(f"{args.pattern}: frame {i + 1}: blocked by the guard: {'; '.join(reasons_of(verdict))}",
+            print(f"{args.pattern}: frame {i}: blocked by the guard: {'; '.join(reasons_of(verdict))}",
                   file=sys.stderr)
         print(f"{args.pattern}: {len(blocked)} of {anim.n_frames} frames over a limit for profile {profile.name}; "
               "nothing sent (rowcast check shows the currents)", file=sys.stderr)
@@ -64,7 +64,7 @@ def run(args: argparse.Namespace) -> int:
             status = f"shown (seq {result.seq})"
         else:
             status = result.reason or "not shown"
-        print(f"frame {index + 1}/{n} {anim.durations_ms[index]} ms: {status}", flush=True)
+        print(f"frame {index} ({index + 1} of {n}) {anim.durations_ms[index]} ms: {status}", flush=True)
 
     stop = threading.Event()
     link.open()
