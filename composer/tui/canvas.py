@@ -55,11 +55,23 @@ def _cell(code: int) -> tuple[str, Style]:
 _DIM = Style(dim=True)
 
 
-class LedView(ScrollView, can_focus=False):
-    """Draws one frame of LED states with row and column numbers."""
+def _inner(cols: int) -> int:
+    """Width inside the frame: the row-number gutter and two cells per LED."""
+    return GUTTER_W + CELL_W * cols
 
+
+class LedView(ScrollView, can_focus=False):
+    """Draws one frame of LED states with row and column numbers, inside its own rounded frame.
+
+    The frame is drawn as part of each cached line rather than as a CSS border: a CSS border is
+    re-rendered per line on every update and doubled the cost of redrawing a whole canvas.
+    """
+
+    COMPONENT_CLASSES = {"ledview--frame"}
     DEFAULT_CSS = """
     LedView { height: auto; width: auto; min-width: 10; }
+    LedView > .ledview--frame { color: $primary; }
+    LedView:focus > .ledview--frame { color: $accent; }
     """
 
     def __init__(self, rows: int, cols: int, *, name: str | None = None, id: str | None = None,
@@ -70,7 +82,8 @@ class LedView(ScrollView, can_focus=False):
         self._strips: dict[int, Strip] = {}
         self._base_style: Style | None = None
         self._styled: dict[int, tuple[str, Style, bool]] = {}
-        self.virtual_size = Size(GUTTER_W + CELL_W * cols, rows + 1)
+        self._frame_st: Style | None = None
+        self.virtual_size = Size(_inner(cols) + 2, rows + 3)
         self.lines_rendered = 0       # for the benchmark: proves a redraw happened
 
     # -- layout -----------------------------------------------------------------------------
@@ -88,7 +101,7 @@ class LedView(ScrollView, can_focus=False):
         self._frame = np.zeros((rows, cols), np.uint8)
         self._codes = np.zeros((rows, cols), np.uint16)
         self._strips.clear()
-        self.virtual_size = Size(GUTTER_W + CELL_W * cols, rows + 1)
+        self.virtual_size = Size(_inner(cols) + 2, rows + 3)
         self.refresh(layout=True)
 
     # -- state -> codes ---------------------------------------------------------------------
@@ -116,18 +129,30 @@ class LedView(ScrollView, can_focus=False):
         # one block from the first to the last changed row: the compositor handles one region far
         # faster than many one-line regions, and the unchanged rows in between come from the cache
         first, last = int(changed[0]), int(changed[-1])
-        self.refresh_lines(first + 1, last - first + 1)
+        self.refresh_lines(first + 2, last - first + 1)
 
     # -- drawing ----------------------------------------------------------------------------
+    def _frame_style(self) -> Style:
+        if self._frame_st is None:
+            self._frame_st = self._base() + self.get_component_rich_style("ledview--frame", partial=True)
+        return self._frame_st
+
+    def _edge(self, top: bool) -> Strip:
+        inner = _inner(self._codes.shape[1])
+        left, right = ("╭", "╮") if top else ("╰", "╯")
+        return Strip([Segment(left + "─" * inner + right, self._frame_style())], inner + 2)
+
     def _header(self) -> Strip:
         cols = self._codes.shape[1]
         text = " " * GUTTER_W + "".join(f"{c % 10} " for c in range(cols))
-        return Strip([Segment(text, self._base() + _DIM)])
+        bar = Segment("│", self._frame_style())
+        return Strip([bar, Segment(text, self._base() + _DIM), bar], _inner(cols) + 2)
 
     def _base(self) -> Style:
         if self._base_style is None:
             self._base_style = self.rich_style   # costly to compute: once per style change
             self._styled.clear()
+            self._frame_st = None
         return self._base_style
 
     def _styled_cell(self, code: int) -> tuple[str, Style, bool]:
@@ -143,7 +168,8 @@ class LedView(ScrollView, can_focus=False):
         if strip is None:
             base = self._base()
             codes = self._codes[r]
-            segments = [Segment(f"{r:>2} ", base + _DIM)]
+            bar = Segment("│", self._frame_style())
+            segments = [bar, Segment(f"{r:>2} ", base + _DIM)]
             gap = Segment(" ", base)
             # one Segment per run of equal cells, not per LED
             edges = np.flatnonzero(np.diff(codes)) + 1
@@ -156,24 +182,30 @@ class LedView(ScrollView, can_focus=False):
                 else:
                     segments.append(Segment(" ".join(glyph * (e - s)), style))
                     segments.append(gap)
-            strip = Strip(segments, GUTTER_W + CELL_W * len(codes))
+            segments.append(bar)
+            strip = Strip(segments, _inner(len(codes)) + 2)
             self._strips[r] = strip
         return strip
 
     def notify_style_update(self) -> None:
         super().notify_style_update()
-        self._base_style = None               # a theme or class change restyles every line
+        self._base_style = None               # a theme, class or focus change restyles every line
+        self._frame_st = None
         self._strips.clear()
+        self.refresh()
 
     def render_line(self, y: int) -> Strip:
         scroll_x, scroll_y = self.scroll_offset
         y += scroll_y
         self.lines_rendered += 1
         width = self.size.width
-        if y == 0:
+        rows = self._codes.shape[0]
+        if y == 0 or y == rows + 2:
+            strip = self._edge(top=y == 0)
+        elif y == 1:
             strip = self._header()
-        elif 1 <= y <= self._codes.shape[0]:
-            strip = self._row_strip(y - 1)
+        elif 2 <= y <= rows + 1:
+            strip = self._row_strip(y - 2)
         else:
             return Strip.blank(width, self._base())
         if scroll_x == 0 and strip.cell_length == width:
@@ -221,15 +253,15 @@ class LedCanvas(LedView, can_focus=True):
                                 or self.virtual_size.height > self.size.height):
             from textual.geometry import Region
             r, c = self.cursor
-            self.scroll_to_region(Region(GUTTER_W + CELL_W * c, r + 1, CELL_W, 1), animate=False,
+            self.scroll_to_region(Region(1 + GUTTER_W + CELL_W * c, r + 2, CELL_W, 1), animate=False,
                                   immediate=True)
 
     def on_click(self, event) -> None:
         offset = event.get_content_offset(self)
         if offset is None:
             return
-        x = offset.x + self.scroll_offset.x - GUTTER_W
-        y = offset.y + self.scroll_offset.y - 1
+        x = offset.x + self.scroll_offset.x - 1 - GUTTER_W
+        y = offset.y + self.scroll_offset.y - 2
         rows, cols = self._frame.shape
         if x >= 0 and 0 <= y < rows and x // CELL_W < cols:
             self.post_message(self.Clicked(int(y), int(x // CELL_W)))
