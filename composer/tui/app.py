@@ -190,7 +190,7 @@ class EditorScreen(Screen):
         from ..electrical import analyse
         notes: list[str] = []
         try:
-            report = analyse(frames, durations, self.session.profile)
+            report = analyse(frames, durations, self.session.profile, corner="stress")
             timing = getattr(report, "timing", None)
             if timing is not None:
                 region = getattr(timing, "flicker_region", None) or getattr(timing, "flicker", "")
