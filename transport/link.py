@@ -591,7 +591,7 @@ class Link:
                 self.stats.acked += 1
                 if item.is_frame:
                     self._last_shown = item.frame
-                self._emit("acked", f"frame {item.seq} shown" if item.is_frame else f"message {item.seq} acknowledged",
+                self._emit("acked", f"frame shown (seq {item.seq})" if item.is_frame else f"message acknowledged (seq {item.seq})",
                            seq=item.seq)
             elif isinstance(item.reply, p.Reject):
                 self.stats.rejected += 1
