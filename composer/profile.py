@@ -14,7 +14,7 @@ import math
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Callable, Mapping
+from typing import Any, Mapping
 
 from .errors import InputError, did_you_mean
 from .textfile import find_key_line, read_text_file
@@ -580,12 +580,6 @@ def profile_to_dict(profile: Profile) -> dict[str, Any]:
                  "blanking_us": sc.blanking_us, "shift_clock_hz": sc.shift_clock_hz},
         "safety": fields_of(profile.safety),
     }
-
-
-def units_of(section: str) -> Callable[[str], str]:
-    """Unit lookup for ``profile show``: section schema name -> key -> unit."""
-    table = {k.name: k.unit for k in SCHEMA.get(section, ())}
-    return lambda key: table.get(key, "")
 
 
 def schema_markdown() -> str:
