@@ -38,16 +38,21 @@ def sim_url() -> str:
     return f"simrx://bench-8x8?name=tui-{next(_names)}"
 
 
+async def connected(pilot, app, url: str):
+    """Wait until the editor's link is up; return (editor, link panel, the simulated receiver)."""
+    from transport.protocol_simrx import receiver_named
+    ed = editor(app)
+    panel = ed.query_one("#link-pane")
+    assert await until(pilot, lambda: panel.link is not None and panel.link.connected)
+    return ed, panel, receiver_named(url.split("name=")[1])
+
+
 @async_test
 async def test_live_preview_is_what_the_receiver_decoded(tmp_path):
-    from transport.protocol_simrx import receiver_named
     url = sim_url()
     app = app_for(make_pattern(tmp_path), port=url)
     async with app.run_test(size=(120, 40)) as pilot:
-        ed = editor(app)
-        panel = ed.query_one("#link-pane")
-        assert await until(pilot, lambda: panel.link is not None and panel.link.connected)
-        rx = receiver_named(url.split("name=")[1])
+        ed, panel, rx = await connected(pilot, app, url)
         await pilot.press("1", "space", "l", "2", "space", "j", "3", "space")
         want = ed.session.frame.copy()
         assert await until(pilot, lambda: rx.displayed is not None and np.array_equal(rx.displayed, want))
@@ -64,14 +69,10 @@ async def test_live_preview_is_what_the_receiver_decoded(tmp_path):
 
 @async_test
 async def test_blocked_frame_is_shown_and_never_sent(tmp_path):
-    from transport.protocol_simrx import receiver_named
     url = sim_url()
     app = app_for(make_pattern(tmp_path), port=url)
     async with app.run_test(size=(120, 40)) as pilot:
-        ed = editor(app)
-        panel = ed.query_one("#link-pane")
-        assert await until(pilot, lambda: panel.link is not None and panel.link.connected)
-        rx = receiver_named(url.split("name=")[1])
+        ed, panel, rx = await connected(pilot, app, url)
         await pilot.press("space")
         assert await until(pilot, lambda: rx.displayed is not None and rx.displayed[0, 0] == RED)
         shown = rx.displayed.copy()
@@ -92,14 +93,10 @@ async def test_blocked_frame_is_shown_and_never_sent(tmp_path):
 
 @async_test
 async def test_vanished_port_never_takes_the_editor_down(tmp_path):
-    from transport.protocol_simrx import receiver_named
     url = sim_url()
     app = app_for(make_pattern(tmp_path), port=url)
     async with app.run_test(size=(120, 40)) as pilot:
-        ed = editor(app)
-        panel = ed.query_one("#link-pane")
-        assert await until(pilot, lambda: panel.link is not None and panel.link.connected)
-        rx = receiver_named(url.split("name=")[1])
+        ed, panel, rx = await connected(pilot, app, url)
         rx.plugged = False                                   # the USB cable comes out
         await pilot.press("2", "space")
         assert await until(pilot, lambda: panel.state in ("lost", "reconnecting"))
@@ -117,7 +114,6 @@ async def test_vanished_port_never_takes_the_editor_down(tmp_path):
 
 @async_test
 async def test_connect_by_typed_url_and_play_on_the_device(tmp_path):
-    from transport.protocol_simrx import receiver_named
     url = sim_url()
     app = app_for(make_pattern(tmp_path, frames=3, seed=4), port=None)
     async with app.run_test(size=(80, 24)) as pilot:
@@ -127,9 +123,7 @@ async def test_connect_by_typed_url_and_play_on_the_device(tmp_path):
         assert box.has_focus
         box.value = url
         await pilot.press("enter")
-        panel = ed.query_one("#link-pane")
-        assert await until(pilot, lambda: panel.link is not None and panel.link.connected)
-        rx = receiver_named(url.split("name=")[1])
+        ed, panel, rx = await connected(pilot, app, url)
         ed.canvas.focus()
         await pilot.press("P")
         assert await until(pilot, lambda: rx.counts.shown >= 2 or "blocked" in screen_text(app), timeout=5)
