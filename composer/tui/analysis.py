@@ -12,21 +12,13 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..electrical import analyse as _analyse
 from ..model import Animation
 from ..profile import Profile
 
-__all__ = ["FrameResult", "FrameChecks", "engine_available"]
-
-try:                                       # the engine is another station; the composer works without it
-    from ..electrical import analyse as _analyse
-except ImportError:                        # pragma: no cover - only while the engine is missing
-    _analyse = None
+__all__ = ["FrameResult", "FrameChecks"]
 
 CORNER = "stress"
-
-
-def engine_available() -> bool:
-    return _analyse is not None
 
 
 @dataclass(frozen=True)
@@ -90,9 +82,6 @@ class FrameChecks:
 
     def full(self, anim: Animation) -> None:
         """Results for every frame (reusing any frame already analysed with the same content)."""
-        if _analyse is None:
-            self.results = [None] * anim.n_frames
-            return
         keys = [self._key(f, ms) for f, ms in zip(anim.frames, anim.durations_ms.tolist())]
         missing = [i for i, k in enumerate(keys) if k not in self._by_content]
         if missing:
@@ -107,8 +96,6 @@ class FrameChecks:
 
     def update(self, anim: Animation, index: int) -> None:
         """Re-analyse frame ``index`` only."""
-        if _analyse is None:
-            return
         if len(self.results) != anim.n_frames:
             self.full(anim)
             return

@@ -23,7 +23,7 @@ from ..model import MAX_MS, MIN_MS, Animation
 from ..pattern_file import PATTERN_SUFFIX, dump_pattern, open_pattern
 from ..profile import Profile, load_profile
 from . import autosave
-from .analysis import FrameChecks, engine_available
+from .analysis import FrameChecks
 from .canvas import GLYPH, LedCanvas
 from .dialogs import AskText, Choice, Notice
 from .frames import FrameStrip
@@ -109,7 +109,7 @@ class EditorScreen(Screen):
                                                  s.selected, self.playing)
         if readout or full:
             self.query_one(Readout).show(self.checks, s.current, int(s.anim.durations_ms[s.current]),
-                                         self._guard_notes() + self.animation_notes, engine_available())
+                                         self._guard_notes() + self.animation_notes)
         self._update_title()
         self._update_tool()
 
@@ -175,8 +175,6 @@ class EditorScreen(Screen):
 
     # -- animation-wide checks (flash, refresh) in a worker ----------------------------------
     def schedule_animation_check(self) -> None:
-        if not engine_available():
-            return
         if self._anim_check_timer is not None:
             self._anim_check_timer.stop()
         self._anim_check_timer = self.set_timer(ANIMATION_CHECK_DELAY_S, self._start_animation_check)
@@ -212,12 +210,10 @@ class EditorScreen(Screen):
         self.animation_notes = notes
         s = self.session
         self.query_one(Readout).show(self.checks, s.current, int(s.anim.durations_ms[s.current]),
-                                     self._guard_notes() + notes, engine_available())
+                                     self._guard_notes() + notes)
 
     def _guard_notes(self) -> list[str]:
         """The guard's verdict on the frame (the stress corner, what the link applies before sending)."""
-        if not engine_available():
-            return []
         frame = self.session.frame
         key = frame.tobytes()
         line = self._guard_cache.get(key)
@@ -404,7 +400,7 @@ class EditorScreen(Screen):
     def action_next_bad(self) -> None:
         i = self.checks.next_bad(self.session.current)
         if i is None:
-            self.say("every frame is within the limits" if engine_available() else "no engine: nothing checked")
+            self.say("every frame is within the limits")
             return
         self._stop_play()
         self._show_frame(i)

@@ -64,9 +64,8 @@ class Readout(Widget):
         self._base: Style | None = None
         self._height = 0
 
-    def show(self, checks: FrameChecks, current: int, ms: int, animation_notes: list[str],
-             engine: bool) -> None:
-        self._args = (checks, current, ms, list(animation_notes), engine)
+    def show(self, checks: FrameChecks, current: int, ms: int, animation_notes: list[str]) -> None:
+        self._args = (checks, current, ms, list(animation_notes))
         self._rebuild()
 
     def on_resize(self) -> None:
@@ -128,13 +127,10 @@ class Readout(Widget):
             self._strips[y] = strip
         return strip
 
-    def _text(self, checks: FrameChecks, current: int, ms: int, notes: list[str], engine: bool, *,
+    def _text(self, checks: FrameChecks, current: int, ms: int, notes: list[str], *,
               width: int = 40) -> Text:
         t = Text()
         width = max(20, width)
-        if not engine:
-            t.append("electrical engine not installed: no currents to show\n", "dim")
-            return t
         res: FrameResult | None = checks.results[current] if current < len(checks.results) else None
         if res is None:
             t.append("analysing…\n", "dim")
