@@ -46,8 +46,7 @@ class _Parser(argparse.ArgumentParser):
 
 
 def build_parser(only: str | None = None) -> argparse.ArgumentParser:
-    """The full parser; with ``only``, just that subcommand's options are loaded (faster start-up,
-    and one broken optional module cannot take the other commands down)."""
+    """The full parser; with ``only``, just that subcommand's options are loaded (faster start-up)."""
     parser = _Parser(prog="rowcast", description="Compose, check, stream and export animations for "
                      "multiplexed two-colour LED dot-matrix panels.", epilog=EPILOG)
     parser.add_argument("--version", action="version", version=f"rowcast {__version__}")
@@ -57,13 +56,7 @@ def build_parser(only: str | None = None) -> argparse.ArgumentParser:
         sub.set_defaults(_module=module_name)
         if only is not None and name != only:
             continue
-        try:
-            module = importlib.import_module(module_name)
-        except ModuleNotFoundError as exc:
-            if exc.name and module_name.startswith(exc.name):
-                sub.set_defaults(_missing=True)
-                continue
-            raise
+        module = importlib.import_module(module_name)
         module.configure(sub)
     return parser
 
@@ -77,9 +70,6 @@ def main(argv: list[str] | None = None) -> int:
         args = parser.parse_args(argv)
         if args.command is None:
             parser.print_help()
-            return EXIT_INPUT
-        if getattr(args, "_missing", False):
-            sys.stderr.write(f"rowcast {args.command}: this command is not part of this build\n")
             return EXIT_INPUT
         module = importlib.import_module(args._module)
         return int(module.run(args) or 0)
@@ -95,12 +85,8 @@ def main(argv: list[str] | None = None) -> int:
 
 def _default() -> int:
     """No arguments: the composer on the bundled demo with the simulated receiver as preview."""
-    try:
-        tui = importlib.import_module("composer.tui.command")
-    except ModuleNotFoundError:
-        from .commands.summary import demo_summary
-        return demo_summary()
-    return tui.run_demo()
+    from .tui.command import run_demo
+    return run_demo()
 
 
 if __name__ == "__main__":
