@@ -190,3 +190,26 @@ def test_uniformity_is_the_intensity_ratio():
     curved = dataclasses.replace(prof, leds={**prof.leds, "red": dataclasses.replace(
         prof.leds["red"], relative_intensity_points=((4.0, 0.3), (20.0, 1.0)))})
     assert uniformity(lo, hi, curved)[0, 0] == pytest.approx(0.3)
+
+
+def test_check_json_has_led_uniformity_per_frame(tmp_path, capsys):
+    from composer.cli import main
+    from composer.model import Animation
+    from composer.pattern_file import save_pattern
+    import json
+    anim = Animation.blank(8, 8, name="u", profile="shared-8x8")
+    anim.frames = np.zeros((2, 8, 8), np.uint8)
+    anim.durations_ms = np.array([100, 100])
+    anim.frames[0, 0, 0] = 1                      # a lone red LED and a full red row: uneven
+    anim.frames[0, 1, :] = 1
+    anim.frames[1, 2, :] = 2                      # one full green row: even
+    pat = tmp_path / "u.rowcast.toml"
+    save_pattern(anim, pat)
+    main(["check", str(pat), "--json", "--corner", "typ"])
+    doc = json.loads(capsys.readouterr().out)
+    f0, f1 = doc["frames"]
+    lo, hi = f0["led_ma_range"]["red"]
+    assert f0["led_uniformity"]["red"] == pytest.approx(lo / hi, abs=1e-4) and lo / hi < 0.3
+    assert f0["led_uniformity"]["green"] is None
+    assert f1["led_uniformity"] == {"red": None, "green": 1.0}
+    assert doc["summary"]["led_uniformity"]["red"] == pytest.approx(lo / hi, abs=1e-4)

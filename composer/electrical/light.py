@@ -24,17 +24,17 @@ show only a few brightness steps. A preview is not a photometric measurement.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
-from dataclasses import replace
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from ..errors import InputError
 from ..profile import COLOURS, Led, Profile
 from .colorimetry import cie_lightness, linear_srgb, spectral_xy, srgb_encode, xyz_from_xy
+from .solve import count_table
 from .timing import scan_timing
 
-__all__ = ["LightModel", "light_model", "die_intensity_mcd", "Lit", "lit_from_currents",
+__all__ = ["LightModel", "light_model", "die_intensity_mcd", "Lit", "as_lit", "lit_from_currents",
            "uniformity", "OFF_SRGB"]
 
 OFF_SRGB = (46, 40, 36)        # an unlit LED: a dim dot, so the grid stays visible
@@ -99,7 +99,6 @@ def light_model(profile: Profile) -> LightModel:
 
 
 def _light_model(profile: Profile) -> LightModel:
-    from .solve import count_table                # the row solution per lit count, at the stress corner
     _required(profile)
     leds = (profile.leds["red"], profile.leds["green"])
     xy = spectral_xy([led.dominant_wavelength_nm for led in leds])
@@ -143,6 +142,13 @@ def lit_from_currents(frames: np.ndarray, led_ma: np.ndarray, profile: Profile, 
     srgb[~lit] = OFF_SRGB
     lightness = np.where(lit, cie_lightness(mcd.sum(axis=-1) / model.reference_y_mcd), 0.0)
     return Lit(mcd, srgb, lightness, lit, corner)
+
+
+def as_lit(frames, profile: Profile, corner: str = "typ") -> Lit:
+    """The light of every LED of ``frames`` (F, R, C) at ``corner``, from the engine's per-LED currents."""
+    from .headroom import led_currents           # here, not at the top: the engine imports this module
+    frames = np.asarray(frames, np.uint8)
+    return lit_from_currents(frames, led_currents(frames, profile, corner=corner), profile, corner)
 
 
 def uniformity(led_ma_min: np.ndarray, led_ma_max: np.ndarray, profile: Profile) -> np.ndarray:
