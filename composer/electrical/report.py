@@ -1,6 +1,8 @@
 """The analysis result: arrays per frame and row, the violations, and the documented JSON."""
 from __future__ import annotations
 
+import functools
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -48,7 +50,39 @@ class Report:
     resistor_w_max: np.ndarray
     stuck_scan: np.ndarray                      # (F,) bool: over a continuous rating if the scan stops
     stuck_parts: dict[str, np.ndarray] = field(default_factory=dict)   # part -> (F,) bool
-    utilisation: np.ndarray = field(default=None)                       # (F,) worst measured / limit
+    utilisation: np.ndarray = field(default=None)                       # (F,) binding rule's measured / limit
+    # rule id -> (F,) worst measured / limit of that rule (1.0 = at the limit); frame-level rules only
+    rule_utilisation: dict[str, np.ndarray] = field(default_factory=dict)
+    binding_index: np.ndarray = field(default=None)                     # (F,) index into rule_utilisation
+    # (F, 2) dimmest / brightest lit LED of each colour in luminous intensity (NaN: colour unlit), and (2,)
+    # over the whole animation (composer.electrical.light.uniformity)
+    led_uniformity: np.ndarray = field(default=None)
+    led_uniformity_all: np.ndarray = field(default=None)
+    # computed on first use of row_utilisation (the composer's bars need it, a check of 10,000 frames not)
+    row_utilisation_of: Callable[[], np.ndarray] | None = field(default=None, repr=False, compare=False)
+
+    @functools.cached_property
+    def row_utilisation(self) -> np.ndarray:
+        """(F, rows): per row the highest utilisation of the parts that row loads on its own (driver
+        channel, supply while on, its LEDs, register pins and packages, a row resistor)."""
+        return self.row_utilisation_of()
+
+    @property
+    def rules(self) -> tuple[str, ...]:
+        """The frame-level rules with a utilisation, in the engine's order."""
+        return tuple(self.rule_utilisation)
+
+    def binding(self, index: int) -> str:
+        """The rule closest to (or furthest over) its limit in frame ``index``."""
+        return self.rules[int(self.binding_index[index])]
+
+    def summary_utilisation(self) -> dict[str, float]:
+        """Rule id -> its highest utilisation over the animation."""
+        return {rule: float(u.max()) for rule, u in self.rule_utilisation.items()}
+
+    def summary_binding(self) -> str:
+        util = self.summary_utilisation()
+        return max(util, key=util.__getitem__)
 
     @property
     def n_frames(self) -> int:
@@ -92,9 +126,12 @@ class Report:
                 "supply_avg_ma": _r(self.supply_avg_ma[i]),
                 "led_ma_range": {c: [_r(self.led_ma_min[i, k]), _r(self.led_ma_max[i, k])]
                                  for k, c in enumerate(("red", "green"))},
+                "led_uniformity": {c: _r(self.led_uniformity[i, k]) for k, c in enumerate(("red", "green"))},
                 "driver_tj_c": _r(self.driver_tj_c[i], 2),
                 "resistor_w_max": _r(self.resistor_w_max[i], 6),
                 "stuck_scan_over": bool(self.stuck_scan[i]),
+                "utilisation": {rule: _r(u[i]) for rule, u in self.rule_utilisation.items()},
+                "binding": self.binding(i),
                 "ok": bool(self.frame_ok[i]),
                 "violations": by_frame.get(i, []),
             })
@@ -109,6 +146,8 @@ class Report:
             "frames_ok": int(self.frame_ok.sum()),
             "worst_frame": self.worst_frame,
             "frames_over": self.frames_over(),
+            "utilisation": {rule: _r(u) for rule, u in self.summary_utilisation().items()},
+            "binding": self.summary_binding(),
             "refresh_hz": _r(t.refresh_hz, 2),
             "duty": _r(t.duty, 6),
             "effective_duty": _r(t.effective_duty, 6),
@@ -120,10 +159,7 @@ class Report:
             "led_ma_range": {c: [_r(np.nanmin(self.led_ma_min[:, k], initial=np.inf)),
                                  _r(np.nanmax(self.led_ma_max[:, k], initial=-np.inf))]
                              for k, c in enumerate(("red", "green"))},
-            "led_uniformity": {c: _r(np.nanmin(self.led_ma_min[:, k], initial=np.inf)
-                                     / np.nanmax(self.led_ma_max[:, k], initial=-np.inf))
-                               if np.isfinite(self.led_ma_max[:, k]).any() else None
-                               for k, c in enumerate(("red", "green"))},
+            "led_uniformity": {c: _r(self.led_uniformity_all[k]) for k, c in enumerate(("red", "green"))},
             "driver_tj_max_c": _r(self.driver_tj_c.max(), 2),
             "flicker": {"region": t.flicker_region, "text": t.flicker_text},
             "flash": None if flash is None else {
