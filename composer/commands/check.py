@@ -10,7 +10,7 @@ import sys
 
 import numpy as np
 
-from ..electrical import CORNERS, Report, analyse
+from ..electrical import CORNERS, Report, analyse, scan_speed
 from ..errors import EXIT_OK, EXIT_VIOLATION
 from ..pattern_file import open_pattern
 
@@ -44,10 +44,11 @@ def run(args: argparse.Namespace) -> int:
         doc = report.to_json()
         doc["summary"]["pattern"] = str(args.pattern)
         doc["summary"]["corners"] = ranges
+        doc["summary"]["scan_speed"] = scan_speed(profile).to_json()
         json.dump(doc, sys.stdout, indent=1)
         sys.stdout.write("\n")
     else:
-        sys.stdout.write(render_text(report, str(args.pattern), ranges))
+        sys.stdout.write(render_text(report, str(args.pattern), ranges, profile))
     return EXIT_OK if report.ok else EXIT_VIOLATION
 
 
@@ -55,7 +56,7 @@ def _ma(x: float) -> str:
     return "-" if not np.isfinite(x) else f"{x:.1f}"
 
 
-def render_text(report: Report, pattern: str, ranges: dict | None = None) -> str:
+def render_text(report: Report, pattern: str, ranges: dict | None = None, profile=None) -> str:
     t = report.timing
     lines = [f"check {pattern} on {report.profile}, {report.corner} corner: {report.n_frames} frames",
              "",
@@ -103,6 +104,8 @@ def render_text(report: Report, pattern: str, ranges: dict | None = None) -> str
     lines.append(f"timing: refresh {t.refresh_hz:.1f} Hz, duty {100 * t.duty:.2f} %, effective duty "
                  f"{100 * t.effective_duty:.2f} % (blanking), shifting {t.shift_us:.1f} us of a {t.row_period_us:g} us slot")
     lines.append(f"flicker: {t.flicker_text}")
+    if profile is not None:
+        lines.extend(scan_speed(profile).lines())
     if report.flash is not None:
         lines.append(f"flash: {report.flash.message}")
     lines.append("verdict: " + ("OK, every frame inside every limit" if report.ok else

@@ -11,6 +11,8 @@ from __future__ import annotations
 from .engine import analyse, firmware_lit_limit, guard
 from .limits import RULES, Violation
 from .report import Report, Verdict
+from .scan_speed import ScanSpeed, scan_speed
 from .solve import CORNERS
 
-__all__ = ["analyse", "guard", "firmware_lit_limit", "Report", "Verdict", "Violation", "RULES", "CORNERS"]
+__all__ = ["analyse", "guard", "firmware_lit_limit", "Report", "Verdict", "Violation", "RULES", "CORNERS",
+           "ScanSpeed", "scan_speed"]
