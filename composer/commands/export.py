@@ -13,6 +13,7 @@ from pathlib import Path
 import numpy as np
 
 from ..atomic import atomic_write_bytes
+from ..bundled import resolve_pattern_ref
 from ..errors import EXIT_OK, EXIT_VIOLATION, InputError
 from ..exports.c_tables import LAYOUTS, c_header, check_prefix
 from ..exports.check import check_report
@@ -25,7 +26,7 @@ __all__ = ["configure", "run"]
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.rowcast.toml)")
+    parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.rowcast.toml) or bundled demo name")
     parser.add_argument("--profile", metavar="NAME|PATH", help="profile to use instead of the pattern's own")
     parser.add_argument("--c", metavar="OUT.h", dest="c_out", help="write C tables (a header file)")
     parser.add_argument("--layout", choices=LAYOUTS, default="shift",
@@ -47,7 +48,8 @@ def run(args: argparse.Namespace) -> int:
     wanted = {opt: check_out(p, opt) for opt, p in outputs.items() if p}
     if not wanted:
         raise InputError("nothing to export: give --c, --gif, --png and/or --json")
-    seen: dict[Path, str] = {Path(args.pattern).resolve(): "the pattern itself"}
+    pattern = resolve_pattern_ref(args.pattern)        # a file, or a bundled demo by name
+    seen: dict[Path, str] = {pattern.resolve(): "the pattern itself"}
     for opt, out in wanted.items():
         key = out.resolve()
         if key in seen:
@@ -57,7 +59,7 @@ def run(args: argparse.Namespace) -> int:
         check_prefix(args.prefix)
     if args.gif_out or args.png_out:
         check_scale(args.scale)
-    anim, profile = open_pattern(args.pattern, args.profile)
+    anim, profile = open_pattern(pattern, args.profile)
 
     # Render everything first, then write: a failure while rendering leaves no file behind.
     # The check runs for previews too: a preview of flashing content flashes on a screen as well.
@@ -68,7 +70,7 @@ def run(args: argparse.Namespace) -> int:
     blobs: dict[str, bytes] = {}
     if args.c_out:
         blobs["--c"] = c_header(anim, profile, report, layout=args.layout, prefix=args.prefix,
-                                progmem=args.progmem, source_name=Path(args.pattern).name,
+                                progmem=args.progmem, source_name=pattern.name,
                                 stress_report=stress).encode()
     if args.gif_out:
         blobs["--gif"] = gif_bytes(anim, args.scale)
