@@ -22,6 +22,7 @@ from .frame_actions import FrameActions
 from .frames import FrameStrip
 from .generate_actions import GenerateActions
 from .keys import editor_bindings
+from .light_actions import LightActions
 from .link_actions import LinkActions
 from .readout import Readout
 from .session import ALL, BRUSH_NAMES, Edited, Session
@@ -30,8 +31,8 @@ from .startup import Startup
 __all__ = ["EditorScreen"]
 
 
-class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, FileActions, AnimationChecks,
-                   Screen):
+class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, LightActions, FileActions,
+                   AnimationChecks, Screen):
     BINDINGS = editor_bindings()
     HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (118, "-wide")]
 
@@ -87,7 +88,7 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, File
     def redraw(self, *, full: bool = False, readout: bool = True) -> None:
         s = self.session
         onion = s.previous_frame if self.onion else None
-        self.canvas.show_state(s.frame, onion, s.cursor, s.mark)
+        self.canvas.show_state(s.frame, onion, s.cursor, s.mark, self.lit_shade(s.frame))
         self.query_one(FrameStrip).update_frames(s.anim.durations_ms, self.checks.verdicts(), s.current,
                                                  s.selected, self.playing)
         if readout or full:
@@ -117,6 +118,8 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, File
             flags.append("wrap")
         if self.onion:
             flags.append("onion")
+        if self.lit_corner is not None:
+            flags.append(f"as lit {self.lit_corner}")
         if s.clipboard is not None:
             flags.append(f"clip {s.clipboard.shape[0]}x{s.clipboard.shape[1]}")
         self._set_line("#tool", " · ".join(flags))
