@@ -15,7 +15,8 @@ from composer.model import RED, Animation
 from composer.pattern_file import save_pattern
 from composer.profile import load_profile
 from composer.tui.app import EditorScreen
-from composer.tui.canvas import GLYPH, LedView
+from composer.tui.canvas import COLOUR, GLYPH, LedView
+from rich.color import Color, ColorSystem
 from conftest import PROFILES
 from tui_helpers import app_for, async_test, screen_text
 
@@ -104,11 +105,11 @@ async def test_without_true_colour_brightness_shows_in_steps(tmp_path, monkeypat
         await pilot.press("A")
         await pilot.pause()
         lone, row = _glyph_styles(ed.canvas, 2)[3], _glyph_styles(ed.canvas, 5)[3]
-        # the glyph set is kept; the lone LED (L* about 76 against the brightest) is bold, the LED in a full
-        # row (L* about 37) is dim; both keep the standard red
+        # the glyph set is kept; the lone LED (L* about 76 against the brightest) is the usual red in bold,
+        # the LED in a full row (L* about 37) a dark red
         assert GLYPH[RED] in ed.canvas.render_line(2 + 2).text
-        assert lone.bold and not lone.dim and row.dim and not row.bold
-        assert lone.color == row.color
+        assert lone.bold and lone.color == Color.parse(COLOUR[RED])
+        assert not row.bold and row.color.downgrade(ColorSystem.STANDARD).number == 1       # the dark red
 
 
 @async_test
@@ -181,3 +182,87 @@ def test_as_lit_snapshot(snap_compare, tmp_path, monkeypatch, system):
         await pilot.pause(0.1)
 
     assert snap_compare(app_for(path), press=["A"], terminal_size=(80, 24), run_before=settle)
+
+
+def _cell_colours(coloured: str, glyph_row: int) -> list[tuple[str, tuple[int, ...] | None, bool, bool]]:
+    """(glyph, foreground, bold, dim) of every LED glyph on one canvas row of ``capture-pane -e`` output."""
+    import re
+    sgr = re.compile(r"\x1b\[([0-9;]*)m")
+    for line in coloured.splitlines():
+        plain = sgr.sub("", line)
+        parts = plain.split("│")
+        if not (len(parts) >= 3 and parts[1][:3].strip() == str(glyph_row)):
+            continue
+        out, fg, bold, dim, pos = [], None, False, False, 0
+        started = False
+        for m in re.finditer(r"\x1b\[([0-9;]*)m|(.)", line):
+            if m.group(1) is not None or m.group(0).startswith("\x1b"):
+                codes = [int(c) if c else 0 for c in (m.group(1) or "").split(";")]
+                i = 0
+                while i < len(codes):
+                    c = codes[i]
+                    if c == 0:
+                        fg, bold, dim = None, False, False
+                    elif c == 1:
+                        bold = True
+                    elif c == 2:
+                        dim = True
+                    elif c == 22:
+                        bold = dim = False
+                    elif c == 38 and i + 1 < len(codes) and codes[i + 1] == 2:
+                        fg = tuple(codes[i + 2:i + 5])
+                        i += 4
+                    elif c == 38 and i + 1 < len(codes) and codes[i + 1] == 5:
+                        fg = (codes[i + 2],)
+                        i += 2
+                    elif 30 <= c <= 37 or 90 <= c <= 97:
+                        fg = (c,)
+                    i += 1
+                continue
+            ch = m.group(2)
+            pos += 1
+            if ch == "│":
+                started = not started
+            elif started and ch in "·●▲◆":
+                out.append((ch, fg, bold, dim))
+        return out
+    raise AssertionError(f"canvas row {glyph_row} not found")
+
+
+@pytest.mark.external
+@pytest.mark.parametrize("mode", ["true-colour", "16-colour", "no-colour"])
+def test_as_lit_in_a_real_terminal(tmp_path, mode):
+    """tmux (a general-purpose terminal multiplexer) records what the terminal was told to draw."""
+    import shlex
+    from conftest import need_tool
+    from test_tmux import Tmux, _env
+    rowcast = need_tool("rowcast")
+    term = Tmux(need_tool("tmux"), tmp_path)
+    path, _anim = _lone_and_row(tmp_path)
+    env = _env(tmp_path)
+    env.pop("COLORTERM", None)
+    if mode == "true-colour":
+        env["COLORTERM"] = "truecolor"
+    elif mode == "16-colour":
+        env["TERM"] = "xterm"
+    else:
+        env["NO_COLOR"] = "1"
+    try:
+        term.start("l", f"{rowcast} edit {shlex.quote(str(path))}", env, width=100, height=30)
+        term.wait_for("l", "LED evenness")
+        term.keys("l", "o", "A")            # onion off (one frame anyway), as lit on
+        term.wait_for("l", "as lit,")
+        coloured = term.run("capture-pane", "-p", "-e", "-t", "l")
+    finally:
+        term.close()
+    lone = _cell_colours(coloured, 2)[3]
+    row = _cell_colours(coloured, 5)[3]
+    assert lone[0] == row[0] == GLYPH[RED]                           # the glyphs stay in every mode
+    if mode == "true-colour":
+        assert len(lone[1]) == 3 and len(row[1]) == 3 and lone[1][0] > row[1][0] + 60
+    elif mode == "16-colour":
+        # the lone LED (L* about 76) in bright red and bold, the LED of the full row (L* about 37) in the
+        # standard (dark) red: SGR 91 and 31 (ECMA-48 / ISO 6429 colour codes)
+        assert lone[1:3] == ((91,), True) and row[1:3] == ((31,), False)
+    else:
+        assert lone[2] and not row[2] and lone[1] != row[1]           # NO_COLOR: greys, still two steps

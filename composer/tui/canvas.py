@@ -7,8 +7,8 @@ an off LED that was lit in the previous frame shows that frame's hollow glyph (`
 The cursor is drawn in inverse colours, the region between the mark and the cursor underlined.
 
 As lit (``shade``, from :func:`lit_shades`): in a true-colour terminal each lit LED takes the colour
-the light model gives it; in 256/16-colour and NO_COLOR terminals the glyphs and colours stay and the
-lightness shows in three steps (dim, plain, bold).
+the light model gives it; in 256/16-colour and NO_COLOR terminals the glyphs stay and the lightness
+shows in three steps: a dark shade of the colour, the colour, the colour in bold.
 
 :class:`LedView` draws a frame; :class:`LedCanvas` adds the cursor, mark and onion skin and is
 the one the user edits. The device preview in the link panel is a plain :class:`LedView`.
@@ -71,11 +71,19 @@ def _cell(code: int) -> tuple[str, Style]:
     return glyph, style
 
 
+# Lightness steps without true colour: a dark shade, the usual colour, the usual colour in bold. The
+# dark shades round to the standard (dark) red, green and yellow of a 16-colour terminal, the usual
+# colours to the bright ones. (A "dim" style is blended into the background first and can round to
+# another hue there, e.g. dim red to yellow.)
+_STEP_COLOURS = {RED: ("#800000", COLOUR[RED]), GREEN: ("#008000", COLOUR[GREEN]),
+                 AMBER: ("#a08000", COLOUR[AMBER])}
+
+
 def _lit_style(state: int, shade: int) -> Style:
     if shade & _RGB_FLAG:
         return Style(color=f"#{shade & 0xFFFFFF:06x}", bold=True)
     if shade:                                  # lightness step 1..3
-        return Style(color=COLOUR[state], dim=shade == 1, bold=shade == 3)
+        return Style(color=_STEP_COLOURS[state][shade > 1], bold=shade == 3)
     return Style(color=COLOUR[state], bold=True)
 
 
