@@ -80,11 +80,11 @@ async def test_lone_led_is_brighter_than_one_in_a_full_row_on_the_canvas(tmp_pat
         assert "as lit typ" in screen_text(app)
         assert "LED evenness red 0.2" in screen_text(app)           # about 7.8 / 38 mA at the stress corner
         # the next corner: stress is brighter than typ, bright dimmer
-        await pilot.press("^")
+        await pilot.press("@")
         await pilot.pause()
         assert ed.lit_corner == "stress"
         assert _glyph_styles(ed.canvas, 2)[3].color.triplet.red > lone.red
-        await pilot.press("^")
+        await pilot.press("@")
         await pilot.pause()
         assert ed.lit_corner == "bright" and _glyph_styles(ed.canvas, 2)[3].color.triplet.red < lone.red
         await pilot.press("A")
