@@ -44,7 +44,7 @@ def run(args: argparse.Namespace) -> int:
         doc = report.to_json()
         doc["summary"]["pattern"] = str(args.pattern)
         doc["summary"]["corners"] = ranges
-        json.dump(doc, sys.stdout, indent=1)
+        json.dump(doc, sys.stdout, indent=1, allow_nan=False)
         sys.stdout.write("\n")
     else:
         sys.stdout.write(render_text(report, str(args.pattern), ranges))
