@@ -1,0 +1,82 @@
+"""Animation-wide checks (flash, refresh) in a worker, and the guard's verdict on the shown frame.
+
+A mixin of :class:`~composer.tui.editor.EditorScreen`: the per-frame checks are fast and run on
+the UI thread; these look at the whole animation and wait until typing pauses.
+"""
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from .editor import EditorScreen as _Editor
+else:
+    _Editor = object
+
+import numpy as np
+from textual import work
+
+from ..errors import RowcastError
+from .readout import Readout
+
+__all__ = ["AnimationChecks", "ANIMATION_CHECK_DELAY_S"]
+
+ANIMATION_CHECK_DELAY_S = 0.3   # animation-wide checks wait until typing pauses
+
+
+class AnimationChecks(_Editor):
+    def schedule_animation_check(self) -> None:
+        if self._anim_check_timer is not None:
+            self._anim_check_timer.stop()
+        self._anim_check_timer = self.set_timer(ANIMATION_CHECK_DELAY_S, self._start_animation_check)
+
+    def _start_animation_check(self) -> None:
+        anim = self.session.anim
+        self._animation_check(anim.frames.copy(), anim.durations_ms.copy(), self.session.history.serial)
+
+    @work(thread=True, exclusive=True, group="animation-check")
+    def _animation_check(self, frames: np.ndarray, durations: np.ndarray, serial: int) -> None:
+        from ..electrical import analyse
+        notes: list[str] = []
+        try:
+            report = analyse(frames, durations, self.session.profile, corner="stress")
+            timing = getattr(report, "timing", None)
+            if timing is not None:
+                region = getattr(timing, "flicker_region", None) or getattr(timing, "flicker", "")
+                notes.append(f"refresh {float(timing.refresh_hz):.0f} Hz · flicker: {region}")
+            flash = getattr(report, "flash", None)
+            if flash is not None:
+                notes.append(("flash: " if flash.ok else "! flash: ") + str(flash.message))
+            for v in report.violations:
+                if getattr(v, "frame", None) is None and not str(v.rule).startswith("flash"):
+                    notes.append(f"! {v.rule} {v.where}: {float(v.measured):.1f} {v.unit} > "
+                                 f"{float(v.limit):.1f} {v.unit}")
+        except RowcastError as err:
+            notes.append(f"! {err}")
+        self.app.call_from_thread(self._animation_checked, notes, serial)
+
+    def _animation_checked(self, notes: list[str], serial: int) -> None:
+        if serial != self.session.history.serial:
+            return                      # the animation changed meanwhile; a newer check is queued
+        self.animation_notes = notes
+        s = self.session
+        self.query_one(Readout).show(self.checks, s.current, int(s.anim.durations_ms[s.current]),
+                                     self._guard_notes() + notes)
+
+    def _guard_notes(self) -> list[str]:
+        """The guard's verdict on the frame (the stress corner, what the link applies before sending)."""
+        frame = self.session.frame
+        key = frame.tobytes()
+        line = self._guard_cache.get(key)
+        if line is None:
+            from ..electrical import guard
+            try:
+                verdict = guard(frame, self.session.profile)
+                line = ("guard (stress corner): would send" if verdict.ok else
+                        "! guard (stress corner) would block: " + "; ".join(str(r) for r in verdict.reasons[:2]))
+            except RowcastError as err:
+                line = f"! guard: {err}"
+            if len(self._guard_cache) > 512:
+                self._guard_cache.clear()
+            self._guard_cache[key] = line
+        return [line]
+

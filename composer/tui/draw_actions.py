@@ -1,0 +1,100 @@
+"""Drawing actions of the editor: cursor, brush, region and clipboard, whole-picture edits.
+
+A mixin of :class:`~composer.tui.editor.EditorScreen`; every edit goes through the session.
+"""
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from .editor import EditorScreen as _Editor
+else:
+    _Editor = object
+
+__all__ = ["DrawActions"]
+
+
+class DrawActions(_Editor):
+    # -- cursor and brush -------------------------------------------------------------------
+    def action_move(self, d_rows: int, d_cols: int) -> None:
+        self.session.move(d_rows, d_cols)
+        if self.pen:
+            self.run_edit(self.session.paint)
+        else:
+            self.redraw(readout=False)
+
+    def action_brush(self, state: int) -> None:
+        self.session.brush = state
+        self._update_tool()
+
+    def action_paint(self) -> None:
+        self.run_edit(self.session.paint)
+
+    def action_toggle(self) -> None:
+        self.run_edit(self.session.toggle)
+
+    def action_erase(self) -> None:
+        self.run_edit(self.session.erase)
+
+    def action_pen(self) -> None:
+        self.pen = not self.pen
+        if self.pen:
+            self.run_edit(self.session.paint)
+        self._update_tool()
+        self.say("pen on: moving paints" if self.pen else "pen off")
+
+    def action_fill(self) -> None:
+        self.run_edit(self.session.fill)
+
+    def action_onion(self) -> None:
+        self.onion = not self.onion
+        self.redraw(readout=False)
+
+    # -- region and clipboard -----------------------------------------------------------------
+    def action_mark(self) -> None:
+        s = self.session
+        s.mark = None if s.mark is not None else s.cursor
+        self.redraw(readout=False)
+
+    def action_unmark(self) -> None:
+        if self.session.mark is not None:
+            self.session.mark = None
+            self.redraw(readout=False)
+
+    def action_line(self) -> None:
+        self.run_edit(self.session.line)
+
+    def action_box(self, filled: bool) -> None:
+        self.run_edit(self.session.rect, filled)
+
+    def action_copy(self) -> None:
+        self.say(self.session.copy())
+        self._update_tool()
+
+    def action_cut(self) -> None:
+        self.run_edit(self.session.cut)
+
+    def action_paste(self, transparent: bool) -> None:
+        self.run_edit(self.session.paste, transparent)
+
+    # -- whole picture ----------------------------------------------------------------------
+    def action_shift(self, d_rows: int, d_cols: int) -> None:
+        self.run_edit(self.session.shift, d_rows, d_cols)
+
+    def action_wrap(self) -> None:
+        self.session.wrap = not self.session.wrap
+        self._update_tool()
+        self.say("shifts wrap round" if self.session.wrap else "shifts drop what leaves the panel")
+
+    def action_mirror(self, axis: str) -> None:
+        self.run_edit(self.session.mirror, axis)
+
+    def action_rotate(self, turns: int) -> None:
+        self.run_edit(self.session.rotate, turns)
+
+    def action_invert(self) -> None:
+        self.run_edit(self.session.invert)
+
+    def action_clear(self) -> None:
+        self.run_edit(self.session.clear)
+

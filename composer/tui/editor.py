@@ -1,0 +1,163 @@
+"""The editor screen: layout, redrawing and applying edits; the actions live in mixins.
+
+All editing goes through :class:`~composer.tui.session.Session`; the mixins only map keys to
+those edits. Layout in ``rowcast.tcss``.
+"""
+from __future__ import annotations
+
+from textual import on
+from textual.app import ComposeResult
+from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.screen import Screen
+from textual.widgets import Footer, Static
+
+from ..errors import RowcastError
+from . import autosave
+from .analysis import FrameChecks
+from .anim_checks import AnimationChecks
+from .canvas import GLYPH, LedCanvas
+from .draw_actions import DrawActions
+from .file_actions import FileActions
+from .frame_actions import FrameActions
+from .frames import FrameStrip
+from .generate_actions import GenerateActions
+from .keys import editor_bindings
+from .link_actions import LinkActions
+from .readout import Readout
+from .session import ALL, BRUSH_NAMES, Edited, Session
+from .startup import Startup
+
+__all__ = ["EditorScreen"]
+
+
+class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, FileActions, AnimationChecks,
+                   Screen):
+    BINDINGS = editor_bindings()
+    HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (118, "-wide")]
+
+    def __init__(self, session: Session, startup: Startup) -> None:
+        super().__init__(id="editor")
+        self.session = session
+        self.startup = startup
+        self.checks = FrameChecks(session.profile)
+        self.onion = True
+        self.pen = False
+        self.playing = False
+        self._play_timer = None
+        self._anim_check_timer = None
+        self._autosaved_serial = session.history.serial
+        self.animation_notes: list[str] = []
+        self.message = ""
+        self._lines: dict[str, str] = {}
+        self._guard_cache: dict[bytes, str] = {}
+
+    # -- layout -----------------------------------------------------------------------------
+    def compose(self) -> ComposeResult:
+        anim = self.session.anim
+        yield Static("", id="title", markup=False)
+        with Horizontal(id="main"):
+            with Vertical(id="left"):
+                yield LedCanvas(anim.rows, anim.cols, id="canvas")
+                yield Static("", id="tool", markup=False)
+            with VerticalScroll(id="readout-pane"):
+                yield Readout(id="readout")
+            yield self._make_link_panel()
+        yield FrameStrip(id="frames")
+        yield Static("", id="status", markup=False)
+        yield Footer()
+
+    def _make_link_panel(self):
+        from .linkpanel import LinkPanel
+        return LinkPanel(self.session.profile, self.startup.port, id="link-pane")
+
+    def on_mount(self) -> None:
+        self.checks.full(self.session.anim)
+        self.redraw(full=True)
+        self.query_one(LedCanvas).focus()
+        self.query_one("#link-pane").frame_edited(self.session.frame)   # what live mode sends on connect
+        if self.startup.autosave_enabled:
+            self.set_interval(autosave.AUTOSAVE_EVERY_S, self.autosave_tick)
+        self.schedule_animation_check()
+
+    # -- redrawing --------------------------------------------------------------------------
+    @property
+    def canvas(self) -> LedCanvas:
+        return self.query_one(LedCanvas)
+
+    def redraw(self, *, full: bool = False, readout: bool = True) -> None:
+        s = self.session
+        onion = s.previous_frame if self.onion else None
+        self.canvas.show_state(s.frame, onion, s.cursor, s.mark)
+        self.query_one(FrameStrip).update_frames(s.anim.durations_ms, self.checks.verdicts(), s.current,
+                                                 s.selected, self.playing)
+        if readout or full:
+            self.query_one(Readout).show(self.checks, s.current, int(s.anim.durations_ms[s.current]),
+                                         self._guard_notes() + self.animation_notes)
+        self._update_title()
+        self._update_tool()
+
+    def _update_title(self) -> None:
+        s = self.session
+        where = str(s.path) if s.path is not None else "(not saved yet)"
+        if self.startup.read_only and s.path is not None:
+            where += " [bundled: save as]"
+        dirty = "✱ unsaved · " if s.dirty else ""
+        self._set_line("#title",
+            f"{dirty}{s.anim.name} · frame {s.current} of {s.anim.n_frames} · {s.profile.name} · {where}")
+
+    def _update_tool(self) -> None:
+        s = self.session
+        r, c = s.cursor
+        flags = [f"brush {GLYPH[s.brush]} {BRUSH_NAMES[s.brush]}", f"row {r} col {c}"]
+        if self.pen:
+            flags.append("PEN")
+        if s.mark is not None:
+            flags.append(f"mark {s.mark[0]},{s.mark[1]}")
+        if s.wrap:
+            flags.append("wrap")
+        if self.onion:
+            flags.append("onion")
+        if s.clipboard is not None:
+            flags.append(f"clip {s.clipboard.shape[0]}x{s.clipboard.shape[1]}")
+        self._set_line("#tool", " · ".join(flags))
+
+    def _set_line(self, selector: str, text: str) -> None:
+        """Fixed-height lines: no layout pass needed, and none at all when the text is unchanged."""
+        if self._lines.get(selector) != text:
+            self._lines[selector] = text
+            self.query_one(selector, Static).update(text, layout=False)
+
+    def say(self, text: str, *, error: bool = False) -> None:
+        self.message = text
+        status = self.query_one("#status", Static)
+        status.set_class(error, "error")
+        status.update(text, layout=False)
+
+    # -- applying edits ---------------------------------------------------------------------
+    def apply(self, edited: Edited | None) -> None:
+        if edited is None:
+            self.redraw(readout=False)
+            return
+        if self.playing:
+            self._stop_play()
+        if edited.frame == ALL:
+            self.checks.full(self.session.anim)
+        else:
+            self.checks.update(self.session.anim, edited.frame)
+        self.redraw()
+        self.say(edited.label)
+        self.schedule_animation_check()
+        self.query_one("#link-pane").frame_edited(self.session.frame)
+
+    def run_edit(self, fn, *args) -> None:
+        try:
+            self.apply(fn(*args))
+        except RowcastError as err:
+            self.say(str(err), error=True)
+            self.app.bell()
+
+    # Textual collects @on handlers from the screen class itself, so this one stays here
+    @on(LedCanvas.Clicked)
+    def clicked(self, event: LedCanvas.Clicked) -> None:
+        self.session.cursor = (event.row, event.col)
+        self.run_edit(self.session.paint)
