@@ -32,7 +32,7 @@ def corner_ranges(anim, profile) -> dict[str, dict[str, list[float | None]]]:
     out = {}
     for corner in CORNERS:
         rep = analyse(anim.frames, anim.durations_ms, profile, corner=corner)
-        out[corner] = rep.to_json()["summary"]["led_ma_range"]
+        out[corner] = rep.led_ma_range()
     return out
 
 
@@ -44,7 +44,8 @@ def run(args: argparse.Namespace) -> int:
         doc = report.to_json()
         doc["summary"]["pattern"] = str(args.pattern)
         doc["summary"]["corners"] = ranges
-        json.dump(doc, sys.stdout, indent=1, allow_nan=False)
+        # no indent: json's C encoder then writes a 10,000-frame report about ten times faster
+        sys.stdout.write(json.dumps(doc, allow_nan=False))
         sys.stdout.write("\n")
     else:
         sys.stdout.write(render_text(report, str(args.pattern), ranges))
