@@ -6,7 +6,8 @@ microseconds, ``_hz`` hertz, ``_pct`` percent, ``_c_per_w`` kelvin per watt). Th
 the one owner of what keys exist, their units, their defaults and their limits; the README's
 profile section and ``rowcast profile show`` are generated from the same table.
 
-Bundled profiles live in ``patterns/profiles/`` and are addressed by their file stem.
+Bundled profiles live in ``patterns/profiles/`` (shipped as ``composer.patterns``) and are addressed by their
+file stem.
 """
 from __future__ import annotations
 
@@ -15,6 +16,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Mapping
 
+from .bundled import data_path
 from .errors import InputError, did_you_mean, escape_text, shorten
 from .textfile import find_where_line, parse_toml, read_text_file
 
@@ -25,7 +27,7 @@ __all__ = [
 ]
 
 PROFILE_FORMAT = "rowcast-profile/1"
-PROFILES_DIR = Path(__file__).resolve().parent.parent / "patterns" / "profiles"
+PROFILES_DIR = data_path("composer.patterns", "profiles")
 COLOURS = ("red", "green")
 NOT_CONNECTED = -1
 

@@ -5,6 +5,7 @@
 """
 from __future__ import annotations
 
+import importlib.util
 import os
 import shutil
 from pathlib import Path
@@ -14,6 +15,12 @@ import pytest
 ROOT = Path(__file__).resolve().parent.parent
 PROFILES = ROOT / "patterns" / "profiles"
 PATTERNS = ROOT / "patterns"
+
+# patterns/ and firmware_stub/ are packages only through pyproject.toml's mapping, which an editable install
+# made before the mapping existed does not know: say how to fix it instead of failing every test on an import.
+if importlib.util.find_spec("composer.patterns") is None:
+    pytest.exit("composer.patterns is not importable: the editable install is older than pyproject.toml; "
+                "run .venv/bin/python -m pip install -e '.[test]' (or bash tests/install-and-run.sh)", returncode=2)
 
 
 def in_ci() -> bool:

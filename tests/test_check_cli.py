@@ -95,3 +95,47 @@ def test_spice_defaults_to_the_worst_row(capsys):
     out = capsys.readouterr().out
     assert out.startswith("* rowcast:") and "row 3" in out.splitlines()[0] and ".end" in out
     assert "quit 0" in out and "wrdata" in out
+
+
+def test_json_utilisation_and_binding(capsys):
+    assert main(["check", str(OVERLOAD), "--json"]) == 1
+    doc = json.loads(capsys.readouterr().out)
+    for frame in doc["frames"]:
+        util = frame["utilisation"]
+        assert frame["binding"] == max(util, key=util.get)
+        assert frame["ok"] == (max(util.values()) <= 1.0)
+    summary = doc["summary"]
+    assert summary["binding"] == "register-package" and summary["utilisation"]["register-package"] > 1.0
+    assert summary["utilisation"]["register-package"] == max(f["utilisation"]["register-package"]
+                                                             for f in doc["frames"])
+
+
+def test_all_lists_both_register_packages_of_frame_0(capsys):
+    assert main(["check", str(OVERLOAD), "--json", "--all"]) == 1
+    doc = json.loads(capsys.readouterr().out)
+    where = [v["where"] for v in doc["frames"][0]["violations"] if v["rule"] == "register-package"]
+    assert any(w.startswith("U2 red in row 0") for w in where) and any(w.startswith("U3 green in row 0")
+                                                                       for w in where)
+    assert main(["check", str(OVERLOAD), "--all"]) == 1
+    text = capsys.readouterr().out
+    assert "U3 green in row 0" in text and "U2 red in row 0" in text
+    assert main(["check", str(OVERLOAD)]) == 1                 # without --all: the worst place only
+    assert "U3 green in row 0" not in capsys.readouterr().out
+
+
+def test_per_led_currents_in_the_json(tmp_path, capsys):
+    frames = np.zeros((2, 8, 8), np.uint8)
+    frames[0, 1, 2] = 1
+    frames[1, 3, :4] = 3
+    path = _pattern(tmp_path, frames)
+    assert main(["check", str(path), "--json", "--per-led"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    led = np.array([f["led_ma"] for f in doc["frames"]])
+    assert led.shape == (2, 8, 8, 2)
+    assert np.count_nonzero(led[0]) == 1 and led[0, 1, 2, 0] > 0
+    assert np.count_nonzero(led[1]) == 8
+    # KCL: a row's LEDs add up to the row current the same report gives
+    for f in range(2):
+        assert np.allclose(led[f].sum(axis=(1, 2)), doc["frames"][f]["row_ma"], rtol=1e-4, atol=1e-3)
+    assert main(["check", str(path), "--per-led"]) == 2        # JSON only: a one-line error
+    assert "--per-led" in capsys.readouterr().err

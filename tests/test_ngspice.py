@@ -103,3 +103,20 @@ def test_rowcast_spice_command_writes_a_netlist_ngspice_runs(tmp_path, capsys):
     anim, prof = open_pattern(pattern)
     rep = analyse(anim.frames[2:3], anim.durations_ms[2:3], prof)
     assert rep.worst_row_ma[0] == pytest.approx(got["i(vrow)"] * 1e3, rel=0.01)
+
+
+@pytest.mark.parametrize("name", ["bench-8x8", "shared-8x8", "cathode-8x8"])
+def test_per_led_currents_agree_with_ngspice(tmp_path, name):
+    """``led_currents`` (what the light model and ``check --per-led`` read) for every LED of a row."""
+    from composer.electrical import led_currents
+    prof = load_profile(name)
+    frame = np.zeros((prof.rows, prof.cols), np.uint8)
+    row = 2
+    frame[row] = [STATE[ch] for ch in "ragr.ag."]
+    for corner in ("typ", "stress"):
+        nl = row_netlist(prof, frame, row, corner=corner)
+        got = run_ngspice(nl.text, nl.data_file, [b[0] for b in nl.branches], tmp_path / corner)
+        led = led_currents(frame[None], prof, corner=corner)[0]
+        for vec, colour, col in nl.branches:
+            assert led[row, col, 0 if colour == "red" else 1] == pytest.approx(got[vec] * 1e3, rel=0.01)
+        assert np.count_nonzero(led) == len(nl.branches)

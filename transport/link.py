@@ -2,20 +2,21 @@
 replies, acknowledgements with timeout and bounded retries, a window of unacknowledged frames, a
 live mode where the newest frame wins, and reconnection when the port goes away.
 
-The guard is the last gate: every frame goes through ``composer.electrical.guard(frame, profile)``
-before it is encoded, and a blocked frame is never written. Nothing in this module's public API
-writes a frame any other way.
+The guard is the last gate: every frame goes through :class:`transport.gate.Gate` (the engine's
+``guard(frame, profile)``, then the receiver's own count) before it is encoded, and a blocked frame is
+never written. Nothing in this module's public API writes a frame any other way.
 
 Threads: the caller's thread (``send_frame``, ``show_live``, ``play``) and one service thread (reads,
 retransmits, sends the newest live frame, reconnects). ``on_event`` may be called from either.
+
+The parts it is built from live beside it: ``events.py`` (what it reports), ``window.py`` (which
+messages are outstanding), ``gate.py`` (the guard), ``ports.py`` (opening and listing ports); their
+names are re-exported here.
 """
 from __future__ import annotations
 
-import re
 import threading
 import time
-from collections import OrderedDict
-from dataclasses import dataclass, field
 from typing import Any, Callable, Iterable
 
 import numpy as np
@@ -24,264 +25,19 @@ import serial
 from composer.errors import InputError, LinkError
 from composer.model import Animation
 from composer.profile import Profile
-from composer.wiring import guard_masks, shift_bytes
 
 from . import protocol as p
+from .events import EVENT_KINDS, LinkEvent, LinkStats, PlayReport, SendResult
+from .gate import Gate, guard_frame, reasons_of
+from .handshake import request
+from .ports import close_quietly, list_ports, one_line, open_port, register_url_handler
 from .receiver import line_time_s
+from .window import Pending, Window
 
 __all__ = ["Link", "LinkEvent", "SendResult", "PlayReport", "LinkStats", "EVENT_KINDS", "Window",
            "Pending", "open_port", "guard_frame", "list_ports", "register_url_handler", "reasons_of"]
 
-EVENT_KINDS = frozenset({"connected", "acked", "rejected", "blocked", "lost", "reconnecting", "reconnected",
-                         "closed", "error"})
 
-
-@dataclass(frozen=True)
-class LinkEvent:
-    """What happened on the link, for a status line. ``message`` is always one line.
-
-    kinds: ``connected`` (open succeeded), ``acked`` (the receiver took a message; ``seq``), ``rejected``
-    (it refused one: ``message`` says why), ``blocked`` (the guard stopped a frame before encoding;
-    ``reasons``, one line each), ``lost`` (port gone or receiver silent), ``reconnecting``, ``reconnected``
-    (identified and configured again; the last frame is restored), ``closed``, ``error`` (bad blocks
-    from the device, a failing callback).
-    """
-
-    kind: str
-    message: str
-    seq: int | None = None
-    reasons: tuple[str, ...] = ()
-
-
-@dataclass(frozen=True)
-class SendResult:
-    """``sent``: the frame's bytes went to the port; ``acked``: the receiver stored it;
-    ``reason``: one line when not acked (blocked, rejected, no answer, link lost)."""
-
-    sent: bool
-    verdict: Any
-    acked: bool
-    reason: str = ""
-    seq: int | None = None
-
-
-@dataclass
-class PlayReport:
-    frames: int = 0        # frames due to be shown
-    acked: int = 0
-    blocked: int = 0
-    rejected: int = 0
-    failed: int = 0        # no answer, superseded or link lost
-    skipped: int = 0       # due while the link was down
-    elapsed_s: float = 0.0
-
-
-@dataclass
-class LinkStats:
-    sent: int = 0
-    retransmits: int = 0
-    acked: int = 0
-    rejected: int = 0
-    superseded: int = 0
-    timeouts: int = 0
-    stray_replies: int = 0       # replies to nothing outstanding (late or duplicate)
-    unexpected: int = 0          # CRC-correct blocks that are not device replies
-    reconnects: int = 0
-
-
-# -------------------------------------------------------------------------------------------------
-# The guard
-# -------------------------------------------------------------------------------------------------
-def _electrical():
-    from composer import electrical  # the engine; imported late so transport imports without it
-    return electrical
-
-
-def guard_frame(frame: np.ndarray, profile: Profile):
-    """``composer.electrical.guard(frame, profile)``: the one verdict every frame needs."""
-    return _electrical().guard(frame, profile)
-
-
-_FRAME_PREFIX = re.compile(r"^frame \d+: ")
-
-
-def _reasons(verdict) -> tuple[str, ...]:
-    """The verdict's reasons; the engine numbers frames within what it was given, which for one frame is
-    always "frame 0", so that prefix is dropped here (the caller knows which frame it sent)."""
-    return tuple(_FRAME_PREFIX.sub("", str(r)) for r in (getattr(verdict, "reasons", ()) or ()))
-
-
-def reasons_of(verdict) -> tuple[str, ...]:
-    """One line per reason a verdict gives, without the engine's "frame 0: " prefix."""
-    return _reasons(verdict)
-
-
-class _GateCache:
-    """What the gate decides is a pure function of (frame, profile): the verdict, and the slot bytes
-    when the frame may go. An animation repeats its frames, so results are kept by frame content
-    (bounded, least recently used out first)."""
-
-    def __init__(self, compute: Callable[[np.ndarray], tuple[Any, bytes | None]], size: int = 512) -> None:
-        self._compute, self.size = compute, size
-        self._cache: OrderedDict[bytes, tuple[Any, bytes | None]] = OrderedDict()
-        self._lock = threading.Lock()
-
-    def __call__(self, frame: np.ndarray) -> tuple[Any, bytes | None]:
-        key = frame.tobytes()
-        with self._lock:
-            hit = self._cache.get(key)
-            if hit is not None:
-                self._cache.move_to_end(key)
-                return hit
-        result = self._compute(frame)
-        with self._lock:
-            self._cache[key] = result
-            if len(self._cache) > self.size:
-                self._cache.popitem(last=False)
-        return result
-
-
-# -------------------------------------------------------------------------------------------------
-# The window: sans-I/O bookkeeping of unacknowledged messages
-# -------------------------------------------------------------------------------------------------
-@dataclass
-class Pending:
-    seq: int
-    wire: bytes
-    is_frame: bool
-    sent_at: float = 0.0
-    tries: int = 0
-    done: bool = False
-    acked: bool = False
-    reply: p.Message | None = None
-    reason: str = ""
-    verdict: Any = None
-    frame: np.ndarray | None = field(default=None, repr=False)
-    on_done: Callable[["Pending"], None] | None = field(default=None, repr=False)
-
-
-class Window:
-    """Messages sent and not yet answered, oldest first.
-
-    The receiver answers in order (PROTOCOL.md section 5), so an answer to ``seq`` means every older
-    message still outstanding was lost or its answer was: an older FRAME is then *superseded* (the
-    newer frame is the one on the panel; sending the older one again would go backwards). When the
-    oldest message's answer is overdue, everything outstanding is sent again in order (go-back-N);
-    after ``retries`` resends the oldest gives up.
-    """
-
-    def __init__(self, size: int, timeout_s: float, retries: int) -> None:
-        if size < 1:
-            raise ValueError("window size must be at least 1")
-        self.size, self.timeout_s, self.retries = size, timeout_s, retries
-        self.items: OrderedDict[int, Pending] = OrderedDict()
-
-    def __len__(self) -> int:
-        return len(self.items)
-
-    @property
-    def has_room(self) -> bool:
-        return len(self.items) < self.size
-
-    def add(self, item: Pending, now: float) -> None:
-        item.sent_at, item.tries = now, 1
-        self.items[item.seq] = item
-
-    def answer(self, msg: p.Message) -> tuple[list[Pending], bool]:
-        """Match a reply. Returns (finished items, matched)."""
-        item = self.items.get(msg.seq)
-        if item is None:
-            return [], False
-        finished = []
-        for seq in list(self.items):
-            if seq == msg.seq:
-                break
-            older = self.items.pop(seq)
-            older.done, older.reason = True, ("superseded by a newer frame" if older.is_frame and
-                                               isinstance(msg, p.Ack) else "no answer (a later message was answered)")
-            finished.append(older)
-        self.items.pop(msg.seq)
-        item.done, item.reply = True, msg
-        if isinstance(msg, p.Reject):
-            item.reason = f"rejected by the receiver: {msg.text()}"
-        else:
-            item.acked = True
-        finished.append(item)
-        return finished, True
-
-    def overdue(self, now: float) -> tuple[list[Pending], list[Pending]]:
-        """(items to resend in order, items that gave up)."""
-        failed: list[Pending] = []
-        while self.items:
-            oldest = next(iter(self.items.values()))
-            if now - oldest.sent_at < self.timeout_s:
-                return [], failed
-            if oldest.tries <= self.retries:
-                resend = list(self.items.values())
-                for item in resend:
-                    item.sent_at, item.tries = now, item.tries + 1
-                return resend, failed
-            self.items.popitem(last=False)
-            oldest.done, oldest.reason = True, f"no answer after {oldest.tries} tries"
-            failed.append(oldest)
-        return [], failed
-
-    def fail_all(self, reason: str) -> list[Pending]:
-        out = list(self.items.values())
-        for item in out:
-            item.done, item.reason = True, reason
-        self.items.clear()
-        return out
-
-
-# -------------------------------------------------------------------------------------------------
-# Ports
-# -------------------------------------------------------------------------------------------------
-def register_url_handler() -> None:
-    """Let pyserial find ``transport.protocol_simrx`` for ``simrx://`` URLs (it looks up
-    ``<package>.protocol_<scheme>`` in ``serial.protocol_handler_packages``)."""
-    if "transport" not in serial.protocol_handler_packages:
-        serial.protocol_handler_packages.append("transport")
-
-
-def open_port(url: str, baud: int, timeout: float = 0.01):
-    """``serial.serial_for_url`` with the failures a user meets turned into one-line LinkErrors."""
-    register_url_handler()
-    try:
-        try:
-            # A write that cannot finish in 2 s means the far end stopped reading: treat as lost.
-            return serial.serial_for_url(url, baudrate=baud, timeout=timeout, write_timeout=2.0)
-        except NotImplementedError:      # pyserial's rfc2217:// client has no write timeout
-            return serial.serial_for_url(url, baudrate=baud, timeout=timeout)
-    except ValueError as err:
-        raise LinkError(f"cannot open {url}: {err}") from None
-    except PermissionError:
-        raise LinkError(f"cannot open {url}: permission denied (on Linux, join the group that owns the "
-                        "port, often dialout, and log in again)") from None
-    except (serial.SerialException, OSError) as err:
-        text = " ".join(str(err).split())
-        if "No such file" in text or "could not open port" in text and "[Errno 2]" in text:
-            text = "no such port (rowcast ports lists the ones present)"
-        elif "Permission denied" in text or "[Errno 13]" in text:
-            text = "permission denied (on Linux, join the group that owns the port, often dialout)"
-        raise LinkError(f"cannot open {url}: {text}") from None
-
-
-def list_ports() -> list[tuple[str, str, str]]:
-    """Serial ports present: ``(device, description, "VID:PID" or "")`` from pyserial's
-    ``serial.tools.list_ports``; USB IDs in the usual four-hex-digit form."""
-    from serial.tools import list_ports as lp
-    out = []
-    for info in sorted(lp.comports(), key=lambda i: i.device):
-        ids = f"{info.vid:04X}:{info.pid:04X}" if info.vid is not None and info.pid is not None else ""
-        desc = info.description if info.description and info.description != "n/a" else ""
-        out.append((info.device, desc, ids))
-    return out
-
-
-# -------------------------------------------------------------------------------------------------
-# The link
-# -------------------------------------------------------------------------------------------------
 class Link:
     """One serial link to one receiver, driving one profile's panel.
 
@@ -306,11 +62,9 @@ class Link:
         if ack_timeout is None:
             ack_timeout = 0.1 + 2 * (window + 1) * line_time_s(wire, self.baud)
         self._window = Window(window, ack_timeout, retries)
-        self._gate_cache = _GateCache(self._decide)
-        self._masks = guard_masks(profile)
-        self._xor = np.frombuffer(self._masks.xor, np.uint8)
-        self._count = np.frombuffer(self._masks.count, np.uint8)
-        self._limit = int(_electrical().firmware_lit_limit(profile))
+        self._gate_of = Gate(profile)
+        self._masks = self._gate_of.masks
+        self._limit = self._gate_of.limit
         self.stats = LinkStats()
         # The longest reply is IDENTITY: 4 + 8 + 2 bytes, 15 COBS-encoded; anything much longer is garbage.
         self.decoder = p.StreamDecoder(max_block=64)
@@ -355,7 +109,7 @@ class Link:
         try:
             self._handshake(port)
         except LinkError:
-            _close_quietly(port)
+            close_quietly(port)
             raise
         self.port = port
         self._connected = True
@@ -378,7 +132,7 @@ class Link:
         self._thread.join(timeout=2.0)
         self._thread = None
         self._connected = False
-        _close_quietly(self.port)
+        close_quietly(self.port)
         self.port = None
         self._emit("closed", f"closed {self.url}")
 
@@ -484,30 +238,12 @@ class Link:
                              f"{self.profile.rows}x{self.profile.cols}")
         return frame
 
-    def _decide(self, frame: np.ndarray) -> tuple[Any, bytes | None]:
-        """The guard's verdict, and the frame's slot bytes when it may be sent (None when blocked).
-
-        A frame the engine passes is also held to the receiver's own coarse count (the limit sent in
-        CONFIGURE): the receiver would refuse it anyway, and saying so here names the row."""
-        verdict = guard_frame(frame, self.profile)
-        if not verdict.ok:       # the same verdict, its reasons without the engine's "frame 0: "
-            return type(verdict)(False, _reasons(verdict), tuple(getattr(verdict, "violations", ()))), None
-        slots = shift_bytes(frame, self.profile)
-        lit = np.unpackbits((slots ^ self._xor) & self._count, axis=-1).sum(axis=-1)
-        over = np.nonzero(lit > self._limit)[0]
-        if not over.size:
-            return verdict, slots.tobytes()
-        r = int(over[0])
-        why = (f"row slot {r} has {int(lit[r])} lit LEDs; the receiver's own guard for profile "
-               f"{self.profile.name} allows {self._limit} per row")
-        return type(verdict)(False, (why,), tuple(getattr(verdict, "violations", ()))), None
-
     def _gate(self, frame: np.ndarray, *, emit: bool = True) -> tuple[Any, bytes | None]:
         """Every frame passes here before it is encoded (see :meth:`_decide`)."""
-        verdict, data = self._gate_cache(frame)
+        verdict, data = self._gate_of(frame)
         if data is None and emit:
-            self._emit("blocked", "frame blocked by the guard: " + "; ".join(_reasons(verdict)),
-                       reasons=_reasons(verdict))
+            self._emit("blocked", "frame blocked by the guard: " + "; ".join(reasons_of(verdict)),
+                       reasons=reasons_of(verdict))
         return verdict, data
 
     def _next_seq(self) -> int:
@@ -519,7 +255,7 @@ class Link:
         frame = self._as_frame(frame)
         verdict, data = self._gate(frame)                 # the last gate, before any encoding
         if data is None:
-            return SendResult(False, verdict, False, "blocked by the guard: " + "; ".join(_reasons(verdict)))
+            return SendResult(False, verdict, False, "blocked by the guard: " + "; ".join(reasons_of(verdict)))
         deadline = None if timeout is None else time.monotonic() + timeout
         with self._cv:
             # Wait for room in the window while connected; a link that is down answers at once.
@@ -564,7 +300,7 @@ class Link:
                 port.write(data)
             return True
         except (serial.SerialException, OSError, AttributeError, TypeError) as err:
-            self._lost(f"write failed: {_one_line(err)}")
+            self._lost(f"write failed: {one_line(err)}")
             return False
 
     def _wait_done(self, item: Pending) -> None:
@@ -606,7 +342,7 @@ class Link:
                 try:
                     item.on_done(item)
                 except Exception as err:  # a callback's failure must not stop the link
-                    self._emit("error", f"progress callback failed: {_one_line(err)}")
+                    self._emit("error", f"progress callback failed: {one_line(err)}")
 
     # -- the service thread ---------------------------------------------------------------------
     def _service(self) -> None:
@@ -616,8 +352,8 @@ class Link:
             try:
                 self._service_once()
             except Exception as err:  # noqa: BLE001 - see docstring
-                self._emit("error", f"link service failed: {type(err).__name__}: {_one_line(err)}")
-                self._lost(f"internal error: {_one_line(err)}")
+                self._emit("error", f"link service failed: {type(err).__name__}: {one_line(err)}")
+                self._lost(f"internal error: {one_line(err)}")
                 time.sleep(self.reconnect_interval)
 
     def _service_once(self) -> None:
@@ -629,7 +365,7 @@ class Link:
             waiting = port.in_waiting
             data = port.read(max(1, min(waiting, 4096)))
         except (serial.SerialException, OSError, AttributeError, TypeError, ValueError) as err:
-            self._lost(f"read failed: {_one_line(err)}")
+            self._lost(f"read failed: {one_line(err)}")
             return
         finished: list[Pending] = []
         if data:
@@ -708,7 +444,7 @@ class Link:
             if port_gone:
                 port, self.port = self.port, None
             self._cv.notify_all()
-        _close_quietly(port)
+        close_quietly(port)
         self._finish(failed)
         self._emit("lost", f"lost {self.url}: {why}")
 
@@ -730,14 +466,14 @@ class Link:
                 self._handshake(port, tries=1)
             except LinkError as err:
                 if getattr(err, "port_error", False) or port is not self.port:
-                    _close_quietly(port)
+                    close_quietly(port)
                     with self._cv:
                         self.port = None
                     time.sleep(self.reconnect_interval)
                 continue
             with self._cv:
                 if self._closing:                # close() came while we were handshaking
-                    _close_quietly(port)
+                    close_quietly(port)
                     return
                 self.port = port
                 self._connected = True
@@ -779,29 +515,9 @@ class Link:
     # -- handshake (runs with exclusive use of the port) -----------------------------------------
     def _request(self, port, msg: p.Message, want: type, tries: int = 3) -> p.Message:
         """Send ``msg`` and wait for its answer on a port nobody else is reading."""
-        wire = b"\x00" + p.encode(msg)
-        decoder = p.StreamDecoder()
-        for _ in range(tries):
-            try:
-                port.write(wire)
-                deadline = time.monotonic() + self.handshake_timeout
-                while time.monotonic() < deadline:
-                    data = port.read(max(1, port.in_waiting))
-                    for payload in decoder.feed(data):
-                        try:
-                            reply = p.decode_payload(payload)
-                        except p.MessageError:
-                            continue
-                        if reply.seq == msg.seq and isinstance(reply, (want, p.Reject)):
-                            self._last_rx = time.monotonic()
-                            return reply
-            except (serial.SerialException, OSError, AttributeError, TypeError, ValueError) as err:
-                failure = LinkError(f"{self.url}: {_one_line(err)}")
-                failure.port_error = True
-                raise failure from None
-        raise LinkError(f"{self.url}: no receiver answered {type(msg).__name__.upper()} "
-                        f"({tries} tries, {self.handshake_timeout:g} s each; is the firmware running and the baud rate "
-                        f"{self.baud}?)")
+        reply = request(port, msg, want, tries=tries, timeout_s=self.handshake_timeout, url=self.url, baud=self.baud)
+        self._last_rx = time.monotonic()
+        return reply
 
     def _handshake(self, port, tries: int = 5) -> None:
         prof = self.profile
@@ -833,16 +549,3 @@ class Link:
             self.on_event(LinkEvent(kind, " ".join(message.split()), seq, tuple(reasons)))
         except Exception:  # an observer's bug must not stop the link
             pass
-
-
-def _one_line(err: BaseException) -> str:
-    return " ".join(str(err).split()) or type(err).__name__
-
-
-def _close_quietly(port) -> None:
-    if port is None:
-        return
-    try:
-        port.close()
-    except Exception:
-        pass

@@ -22,6 +22,7 @@ from pathlib import Path
 
 import numpy as np
 
+from composer.bundled import data_path
 from composer.errors import LinkError
 from composer.profile import Profile
 from composer.wiring import chain_to_shift_order
@@ -29,7 +30,7 @@ from composer.wiring import chain_to_shift_order
 __all__ = ["FIRMWARE_DIR", "BUILD_DEFAULT", "F_CPU", "build", "harness_path", "firmware_path", "SimBoard",
            "Records", "IsrStat", "read_records", "parse_records", "latched_shift_bytes", "tools_missing"]
 
-FIRMWARE_DIR = Path(__file__).resolve().parent.parent / "firmware_stub"
+FIRMWARE_DIR = data_path("transport.firmware_stub")
 BUILD_DEFAULT = FIRMWARE_DIR / "build"
 F_CPU = 16_000_000          # the board layer's clock (firmware_stub/board/avr328p)
 PREFIX = "@rc "

@@ -5,13 +5,14 @@ Exit status 1 when anything is over a limit (see ``composer.electrical.limits.RU
 from __future__ import annotations
 
 import argparse
+import dataclasses
 import json
 import sys
 
 import numpy as np
 
-from ..electrical import CORNERS, Report, analyse
-from ..errors import EXIT_OK, EXIT_VIOLATION
+from ..electrical import CORNERS, Report, analyse, led_currents, places_over
+from ..errors import EXIT_OK, EXIT_VIOLATION, InputError
 from ..pattern_file import open_pattern
 
 __all__ = ["configure", "run", "render_text", "corner_ranges"]
@@ -25,6 +26,10 @@ def configure(parser: argparse.ArgumentParser) -> None:
                         help="stress (default): highest supply, lowest forward voltage, resistors at minus "
                         "tolerance; typ: nominal values; bright: the dim worst case")
     parser.add_argument("--json", action="store_true", help="print the report as JSON (documented keys)")
+    parser.add_argument("--all", action="store_true", help="list every place over a limit (each row, register, "
+                        "LED colour, resistor), not only the worst place per rule and frame")
+    parser.add_argument("--per-led", action="store_true", help="with --json: add frames[].led_ma, each LED's "
+                        "red and green current in mA (rows x cols x 2, 0 where off) at the chosen corner")
 
 
 def corner_ranges(anim, profile) -> dict[str, dict[str, list[float | None]]]:
@@ -38,29 +43,44 @@ def corner_ranges(anim, profile) -> dict[str, dict[str, list[float | None]]]:
 
 def run(args: argparse.Namespace) -> int:
     anim, profile = open_pattern(args.pattern, args.profile)
+    if args.per_led and not args.json:
+        raise InputError("--per-led adds frames[].led_ma to the JSON: use it with --json")
     report = analyse(anim.frames, anim.durations_ms, profile, corner=args.corner)
+    if args.all:
+        report = dataclasses.replace(report, violations=places_over(anim.frames, anim.durations_ms, profile,
+                                                                    corner=args.corner))
     ranges = corner_ranges(anim, profile)
     if args.json:
         doc = report.to_json()
         doc["summary"]["pattern"] = str(args.pattern)
         doc["summary"]["corners"] = ranges
+        doc["summary"]["every_place"] = bool(args.all)
+        if args.per_led:
+            led = np.round(led_currents(anim.frames, profile, corner=args.corner).astype(np.float64), 4)
+            for frame, ma in zip(doc["frames"], led):
+                frame["led_ma"] = ma.tolist()
         # no indent: json's C encoder then writes a 10,000-frame report about ten times faster
         sys.stdout.write(json.dumps(doc, allow_nan=False))
         sys.stdout.write("\n")
     else:
-        sys.stdout.write(render_text(report, str(args.pattern), ranges))
+        sys.stdout.write(render_text(report, str(args.pattern), ranges, every_place=args.all))
     return EXIT_OK if report.ok else EXIT_VIOLATION
+
+
+def _pct(x: float) -> str:
+    return f"{100 * x:.0f}%"
 
 
 def _ma(x: float) -> str:
     return "-" if not np.isfinite(x) else f"{x:.1f}"
 
 
-def render_text(report: Report, pattern: str, ranges: dict | None = None) -> str:
+def render_text(report: Report, pattern: str, ranges: dict | None = None, every_place: bool = False) -> str:
     t = report.timing
     lines = [f"check {pattern} on {report.profile}, {report.corner} corner: {report.n_frames} frames",
              "",
-             f"{'frame':>5} {'ms':>6} {'row':>4} {'row mA':>7} {'pin mA':>7} {'pkg mA':>7} {'supply mA':>9}  verdict"]
+             f"{'frame':>5} {'ms':>6} {'row':>4} {'row mA':>7} {'pin mA':>7} {'pkg mA':>7} {'supply mA':>9} "
+             f"{'used':>5}  {'binding rule':<18}  verdict"]
     over: dict[int, list[str]] = {}
     for v in report.violations:
         if v.frame is not None and v.rule not in over.setdefault(v.frame, []):
@@ -69,10 +89,12 @@ def render_text(report: Report, pattern: str, ranges: dict | None = None) -> str
         verdict = "ok" if report.frame_ok[i] else "OVER: " + ", ".join(over.get(i, []))
         lines.append(f"{i:>5} {int(report.durations_ms[i]):>6} {int(report.worst_row[i]):>4} "
                      f"{_ma(report.worst_row_ma[i]):>7} {_ma(report.pin_ma_max[i]):>7} "
-                     f"{_ma(report.package_ma_max[i]):>7} {_ma(report.supply_peak_ma[i]):>9}  {verdict}")
+                     f"{_ma(report.package_ma_max[i]):>7} {_ma(report.supply_peak_ma[i]):>9} "
+                     f"{_pct(report.utilisation[i]):>5}  {report.binding(i):<18}  {verdict}")
     lines.append("")
     if report.violations:
-        lines.append(f"{len(report.violations)} violation(s):")
+        lines.append(f"{len(report.violations)} violation(s)" + (", every place over a limit:" if every_place
+                                                                   else ", the worst place per rule and frame:"))
         lines.append(f"  {'frame':>5}  {'rule':<20} {'where':<44} {'measured':>10} {'limit':>10} unit")
         for v in report.violations:
             frame = "-" if v.frame is None else str(v.frame)

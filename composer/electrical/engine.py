@@ -220,7 +220,10 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
     worst_row = row_ma.argmax(axis=1)
     worst_row_ma = row_ma[fa, worst_row]
     supply_avg = row_ma.sum(axis=1) * d
-    checks: list[tuple[str, np.ndarray, np.ndarray, str, object]] = []
+    # (rule, measured, limit, unit, where(frame) -> str[, zero]): utilisation is
+    # (measured - zero) / (limit - zero); zero is 0 except for temperature, where the headroom is the
+    # rise above ambient against the allowed rise (Tj = ambient is 0 % used, not 17 %)
+    checks: list[tuple] = []
 
     # driver channel peak
     ratio = row_ma / lim.row_peak_ma
@@ -233,7 +236,7 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
     k_i = tj.argmax(axis=1)
     driver_tj = tj[fa, k_i]
     checks.append(("row-driver-thermal", driver_tj, lim.tj_max_c, "C",
-                   lambda f, k_i=k_i: _package_name(lim, int(k_i[f]))))
+                   lambda f, k_i=k_i: _package_name(lim, int(k_i[f])), lim.ambient_c))
     # LED peak and average, per colour
     led_max = led.max(axis=2).T                                # (F, 2)
     led_row = led.argmax(axis=2).T
@@ -267,12 +270,14 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
                    lambda f: _resistor_name(circ, res_where, f)))
 
     frame_ok = np.ones(f_count, dtype=bool)
-    utilisation = np.zeros(f_count)
+    rule_util: dict[str, np.ndarray] = {}
     violations: list[Violation] = []
-    for rule, measured, limit, unit, where in checks:
-        ratio = measured / limit
-        over = ratio > 1 + 1e-12
-        utilisation = np.maximum(utilisation, ratio)
+    for rule, measured, limit, unit, where, *zero in checks:
+        # measured > limit, not ratio > 1: the same comparison as _quick_ok, so the guard never
+        # disagrees with the report; a frame over a limit has a utilisation >= 1.0, one within < = 1.0
+        over = measured > limit
+        base = zero[0] if zero else 0.0
+        rule_util[rule] = (measured - base) / (limit - base)
         if not over.any():
             continue
         frame_ok &= ~over
@@ -297,6 +302,9 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
                 violations.append(Violation(None, rule, "whole panel", value, 3.0, "flashes/s"))
     if durations is None:
         durations = np.ones(f_count, dtype=np.int64)
+    util = np.stack(list(rule_util.values()))                   # (rules, F)
+    binding = util.argmax(axis=0)
+    utilisation = util[binding, fa]
     led_min = np.where(led > 0, led, np.inf).min(axis=2).T
     led_min = np.where(np.isfinite(led_min), led_min, np.nan)
     led_max_nan = np.where(led_max > 0, led_max, np.nan)
@@ -305,7 +313,25 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
         worst_row_ma=worst_row_ma, pin_ma_max=pin_ma, package_ma_max=package_ma, supply_peak_ma=worst_row_ma,
         supply_avg_ma=supply_avg, frame_ok=frame_ok, row_limit_ma=lim.row_limit_ma, violations=violations,
         timing=t, flash=flash, led_ma_min=led_min, led_ma_max=led_max_nan, driver_tj_c=driver_tj,
-        resistor_w_max=res_w, stuck_scan=stuck, stuck_parts=stuck_parts, utilisation=utilisation)
+        resistor_w_max=res_w, stuck_scan=stuck, stuck_parts=stuck_parts, utilisation=utilisation,
+        rule_utilisation=rule_util, binding_index=binding,
+        row_utilisation_of=lambda: _row_utilisation(row_ma, led, counts.most_on_one, p))
+
+
+def _row_utilisation(row_ma: np.ndarray, led: np.ndarray, most_on_one: np.ndarray, p: _Prep) -> np.ndarray:
+    """(F, R): per row the highest utilisation of the parts that row loads on its own: its driver
+    channel (and the supply while it is on), its LEDs (peak, average), the register pins and the
+    busiest register package of each colour, and its resistor with row placement. Every term is
+    linear in a current, so each is one multiply by a precomputed 1/limit (cheap over F x R)."""
+    lim, d = p.limits, p.timing.effective_duty
+    per_row = np.maximum(1.0 / lim.row_peak_ma, 1.0 / lim.supply_ma)             # (R,)
+    out = row_ma * per_row
+    for k in range(2):
+        led_k = max(1.0 / lim.pin_ma, 1.0 / lim.led_peak_ma[k], d / lim.led_average_ma[k])
+        np.maximum(out, led[k] * np.maximum(led_k, most_on_one[k] * (1.0 / lim.package_ma)), out=out)
+    if p.circuit.row_r > 0:
+        np.maximum(out, np.square(row_ma * 1e-3) * (p.circuit.row_r * d / lim.resistor_w[0]), out=out)
+    return out
 
 
 def _package_name(lim: Limits, k: int) -> str:

@@ -1,6 +1,8 @@
 """The analysis result: arrays per frame and row, the violations, and the documented JSON."""
 from __future__ import annotations
 
+import functools
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -60,7 +62,35 @@ class Report:
     resistor_w_max: np.ndarray
     stuck_scan: np.ndarray                      # (F,) bool: over a continuous rating if the scan stops
     stuck_parts: dict[str, np.ndarray] = field(default_factory=dict)   # part -> (F,) bool
-    utilisation: np.ndarray = field(default=None)                       # (F,) worst measured / limit
+    utilisation: np.ndarray = field(default=None)                       # (F,) binding rule's measured / limit
+    # rule id -> (F,) worst measured / limit of that rule (1.0 = at the limit); frame-level rules only
+    rule_utilisation: dict[str, np.ndarray] = field(default_factory=dict)
+    binding_index: np.ndarray = field(default=None)                     # (F,) index into rule_utilisation
+    # computed on first use of row_utilisation (the composer's bars need it, a check of 10,000 frames not)
+    row_utilisation_of: Callable[[], np.ndarray] | None = field(default=None, repr=False, compare=False)
+
+    @functools.cached_property
+    def row_utilisation(self) -> np.ndarray:
+        """(F, rows): per row the highest utilisation of the parts that row loads on its own (driver
+        channel, supply while on, its LEDs, register pins and packages, a row resistor)."""
+        return self.row_utilisation_of()
+
+    @property
+    def rules(self) -> tuple[str, ...]:
+        """The frame-level rules with a utilisation, in the engine's order."""
+        return tuple(self.rule_utilisation)
+
+    def binding(self, index: int) -> str:
+        """The rule closest to (or furthest over) its limit in frame ``index``."""
+        return self.rules[int(self.binding_index[index])]
+
+    def summary_utilisation(self) -> dict[str, float]:
+        """Rule id -> its highest utilisation over the animation."""
+        return {rule: float(u.max()) for rule, u in self.rule_utilisation.items()}
+
+    def summary_binding(self) -> str:
+        util = self.summary_utilisation()
+        return max(util, key=util.__getitem__)
 
     @property
     def n_frames(self) -> int:
@@ -99,6 +129,8 @@ class Report:
                                                           self.supply_peak_ma, self.supply_avg_ma))
         row_ma, led_min, led_max = _rl(self.row_ma), _rl(self.led_ma_min), _rl(self.led_ma_max)
         tj, res_w = _rl(self.driver_tj_c, 2), _rl(self.resistor_w_max, 6)
+        util = {rule: _rl(u) for rule, u in self.rule_utilisation.items()}
+        binding = [self.rules[k] for k in self.binding_index.tolist()]
         ms, worst_row = self.durations_ms.tolist(), self.worst_row.tolist()
         stuck, ok = self.stuck_scan.tolist(), self.frame_ok.tolist()
         frames = []
@@ -117,6 +149,8 @@ class Report:
                 "driver_tj_c": tj[i],
                 "resistor_w_max": res_w[i],
                 "stuck_scan_over": bool(stuck[i]),
+                "utilisation": {rule: u[i] for rule, u in util.items()},
+                "binding": binding[i],
                 "ok": bool(ok[i]),
                 "violations": by_frame.get(i, []),
             })
@@ -131,6 +165,8 @@ class Report:
             "frames_ok": int(self.frame_ok.sum()),
             "worst_frame": self.worst_frame,
             "frames_over": self.frames_over(),
+            "utilisation": {rule: _r(u) for rule, u in self.summary_utilisation().items()},
+            "binding": self.summary_binding(),
             "refresh_hz": _r(t.refresh_hz, 2),
             "duty": _r(t.duty, 6),
             "effective_duty": _r(t.effective_duty, 6),
