@@ -118,6 +118,15 @@ SCHEMA: dict[str, tuple[Key, ...]] = {
         _k("peak_pulse_us", "float", "us", "pulse width at which the peak rating is given", **_pos(1e6)),
         _k("iv_points", "points", "mA,V", "typical I-V curve points [[mA, V], ...] read off the "
            "datasheet; used to fit the diode model", optional=True, high=_MAX_MA, high_v=_MAX_VF_V),
+        _k("dominant_wavelength_nm", "float", "nm", "dominant wavelength (datasheet typical); the colour "
+           "of the as-lit pictures", optional=True, low=380.0, high=780.0),
+        # 1,000 cd: far above any indicator or dot-matrix die (from memory: tens to thousands of mcd)
+        _k("intensity_mcd", "float", "mcd", "luminous intensity at the test current (datasheet typical); "
+           "the brightness of the as-lit pictures", optional=True, **_pos(1e6)),
+        _k("relative_intensity_points", "points", "mA,rel", "relative luminous intensity against "
+           "forward current [[mA, relative], ...] read off the datasheet's curve (scaled to pass through "
+           "intensity_mcd at the test current); without it intensity is proportional to current",
+           optional=True, high=_MAX_MA, high_v=100.0),
     ),
     "resistor": (
         _k("placement", "choice", doc="column: one resistor per column line; row: one resistor per "
@@ -222,6 +231,9 @@ class Led:
     peak_duty: float
     peak_pulse_us: float
     iv_points: tuple[tuple[float, float], ...] | None
+    dominant_wavelength_nm: float | None = None
+    intensity_mcd: float | None = None
+    relative_intensity_points: tuple[tuple[float, float], ...] | None = None
 
 
 @dataclass(frozen=True)
@@ -373,8 +385,10 @@ def _check_value(ctx: _Ctx, where: str, key: Key, value: Any) -> Any:
     if kind == "points":
         ok = isinstance(value, list) and 2 <= len(value) <= _MAX_POINTS and all(
             isinstance(p, list) and len(p) == 2 and all(_is_number(x) for x in p) for p in value)
+        # the second number of a pair: a voltage ("mA,V") or a relative intensity ("mA,rel")
+        pair = "V" if key.unit.endswith(",V") else "relative"
         if not ok:
-            raise ctx.fail(where, f"must be a list of 2 to {_MAX_POINTS} [mA, V] pairs of numbers")
+            raise ctx.fail(where, f"must be a list of 2 to {_MAX_POINTS} [mA, {pair}] pairs of numbers")
         for a, b in value:
             if not (0 < a <= key.high and 0 < b <= key.high_v):   # also false for NaN
                 raise ctx.fail(where, f"point [{shorten(a)}, {shorten(b)}]: points must have {_range_text(key)}")
@@ -382,7 +396,7 @@ def _check_value(ctx: _Ctx, where: str, key: Key, value: Any) -> Any:
         if any(pts[i + 1][0] <= pts[i][0] for i in range(len(pts) - 1)):
             raise ctx.fail(where, "points must rise in current")
         if any(pts[i + 1][1] < pts[i][1] for i in range(len(pts) - 1)):
-            raise ctx.fail(where, "voltage must not fall as current rises")
+            raise ctx.fail(where, f"{what} must not fall as current rises")
         return pts
     raise AssertionError(kind)
 
@@ -399,7 +413,8 @@ def _unit(key: Key) -> str:
 def _range_text(key: Key) -> str:
     """The bounds of a key in words, as the README table and the errors show them."""
     if key.kind == "points":
-        return (f"mA above 0 and at most {_num(key.high)}, V above 0 and at most {_num(key.high_v)}, 2 to "
+        pair = "V" if key.unit.endswith(",V") else "relative"
+        return (f"mA above 0 and at most {_num(key.high)}, {pair} above 0 and at most {_num(key.high_v)}, 2 to "
                 f"{_MAX_POINTS} points")
     if key.kind == "str":
         return f"at most {_num(key.high)} characters" if key.high is not None else ""

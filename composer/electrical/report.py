@@ -66,6 +66,10 @@ class Report:
     # rule id -> (F,) worst measured / limit of that rule (1.0 = at the limit); frame-level rules only
     rule_utilisation: dict[str, np.ndarray] = field(default_factory=dict)
     binding_index: np.ndarray = field(default=None)                     # (F,) index into rule_utilisation
+    # (F, 2) dimmest / brightest lit LED of each colour in luminous intensity (NaN: colour unlit), and (2,)
+    # over the whole animation (composer.electrical.light.uniformity)
+    led_uniformity: np.ndarray = field(default=None)
+    led_uniformity_all: np.ndarray = field(default=None)
     # computed on first use of row_utilisation (the composer's bars need it, a check of 10,000 frames not)
     row_utilisation_of: Callable[[], np.ndarray] | None = field(default=None, repr=False, compare=False)
 
@@ -128,7 +132,7 @@ class Report:
         worst_ma, pin, pkg, peak, avg = (_rl(a) for a in (self.worst_row_ma, self.pin_ma_max, self.package_ma_max,
                                                           self.supply_peak_ma, self.supply_avg_ma))
         row_ma, led_min, led_max = _rl(self.row_ma), _rl(self.led_ma_min), _rl(self.led_ma_max)
-        tj, res_w = _rl(self.driver_tj_c, 2), _rl(self.resistor_w_max, 6)
+        tj, res_w, unif = _rl(self.driver_tj_c, 2), _rl(self.resistor_w_max, 6), _rl(self.led_uniformity)
         util = {rule: _rl(u) for rule, u in self.rule_utilisation.items()}
         binding = [self.rules[k] for k in self.binding_index.tolist()]
         ms, worst_row = self.durations_ms.tolist(), self.worst_row.tolist()
@@ -146,6 +150,7 @@ class Report:
                 "supply_peak_ma": peak[i],
                 "supply_avg_ma": avg[i],
                 "led_ma_range": {"red": [led_min[i][0], led_max[i][0]], "green": [led_min[i][1], led_max[i][1]]},
+                "led_uniformity": {"red": unif[i][0], "green": unif[i][1]},
                 "driver_tj_c": tj[i],
                 "resistor_w_max": res_w[i],
                 "stuck_scan_over": bool(stuck[i]),
@@ -176,10 +181,7 @@ class Report:
             "supply_peak_ma": _r(self.supply_peak_ma.max()),
             "supply_avg_ma": _r(float((self.supply_avg_ma * weights).sum())),
             "led_ma_range": self.led_ma_range(),
-            "led_uniformity": {c: _r(np.nanmin(self.led_ma_min[:, k], initial=np.inf)
-                                     / np.nanmax(self.led_ma_max[:, k], initial=-np.inf))
-                               if np.isfinite(self.led_ma_max[:, k]).any() else None
-                               for k, c in enumerate(("red", "green"))},
+            "led_uniformity": {c: _r(self.led_uniformity_all[k]) for k, c in enumerate(("red", "green"))},
             "driver_tj_max_c": _r(self.driver_tj_c.max(), 2),
             "flicker": {"region": t.flicker_region, "text": t.flicker_text},
             "flash": None if flash is None else {
