@@ -386,7 +386,7 @@ def _check_value(ctx: _Ctx, where: str, key: Key, value: Any) -> Any:
         ok = isinstance(value, list) and 2 <= len(value) <= _MAX_POINTS and all(
             isinstance(p, list) and len(p) == 2 and all(_is_number(x) for x in p) for p in value)
         # the second number of a pair: a voltage ("mA,V") or a relative intensity ("mA,rel")
-        pair = "V" if key.unit.endswith(",V") else "relative"
+        pair, what = ("V", "voltage") if key.unit.endswith(",V") else ("relative", "intensity")
         if not ok:
             raise ctx.fail(where, f"must be a list of 2 to {_MAX_POINTS} [mA, {pair}] pairs of numbers")
         for a, b in value:
