@@ -432,8 +432,13 @@ def _num(x: float) -> str:
 def _check_range(ctx: _Ctx, where: str, key: Key, value: float) -> None:
     low_ok = key.low is None or (value > key.low if key.low_open else value >= key.low)
     high_ok = key.high is None or value <= key.high
-    if not (low_ok and high_ok):
-        raise ctx.fail(where, f"must be {_range_text(key)}{_unit(key)}, got {shorten(value)}{_unit(key)}")
+    if not low_ok:
+        side = f"above {_num(key.low)}" if key.low_open else f"at least {_num(key.low)}"
+    elif not high_ok:
+        side = f"at most {_num(key.high)}"
+    else:
+        return
+    raise ctx.fail(where, f"must be {side}{_unit(key)} (range {_range_text(key)}), got {shorten(value)}{_unit(key)}")
 
 
 def _section(ctx: _Ctx, table: Any, prefix: str, schema_name: str, *,
