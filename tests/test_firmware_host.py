@@ -207,8 +207,8 @@ def test_vector_identity_configure_frame_ack(lib):
 
 def test_vector_maximum_frame_needs_16_rows(lib):
     rx = Rx(lib)
-    v = vector("frame maximum 16x8")
-    cfg = P.Configure(1, 16, 8, 80, 4, 64, bytes(8), bytes(8))
+    v = vector("frame maximum 16x10")
+    cfg = P.Configure(1, 16, 10, 80, 4, 64, bytes(10), bytes(10))
     assert rx.send(cfg) == [P.Ack(1)]
     assert rx.feed(bytes.fromhex(v["wire"])) == P.encode(P.Ack(v["seq"]))
     assert lib.host_dropped() == 0
@@ -329,7 +329,7 @@ def test_blank_and_show_drive_output_enable(lib, bench):
 
 
 @pytest.mark.parametrize("field,kwargs", [
-    (0, dict(rows=0)), (0, dict(rows=17)), (1, dict(bpr=0)), (1, dict(bpr=9)),
+    (0, dict(rows=0)), (0, dict(rows=17)), (1, dict(bpr=0)), (1, dict(bpr=11)),
     (2, dict(period=19)), (2, dict(period=4001)), (3, dict(blanking=80)), (4, dict(limit=0)),
 ])
 def test_configure_fields_refused(lib, field, kwargs):

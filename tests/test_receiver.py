@@ -79,7 +79,7 @@ def test_duplicate_frame_is_acknowledged_not_stored_twice():
 
 
 @pytest.mark.parametrize("field, cfg", [
-    (0, dict(rows=17)), (0, dict(rows=0)), (1, dict(bytes_per_row=9)), (2, dict(row_period_us=5)), (2, dict(row_period_us=4001)),
+    (0, dict(rows=17)), (0, dict(rows=0)), (1, dict(bytes_per_row=11)), (2, dict(row_period_us=5)), (2, dict(row_period_us=4001)),
     (3, dict(blanking_us=80)), (4, dict(max_lit_per_row=0)),
 ])
 def test_bad_configuration_names_the_field(field, cfg):

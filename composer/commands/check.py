@@ -11,7 +11,7 @@ import sys
 
 import numpy as np
 
-from ..electrical import CORNERS, Report, analyse, led_currents, places_over
+from ..electrical import CORNERS, Report, analyse, led_currents, places_over, scan_speed
 from ..errors import EXIT_OK, EXIT_VIOLATION, InputError
 from ..pattern_file import open_pattern
 
@@ -55,6 +55,7 @@ def run(args: argparse.Namespace) -> int:
         doc["summary"]["pattern"] = str(args.pattern)
         doc["summary"]["corners"] = ranges
         doc["summary"]["every_place"] = bool(args.all)
+        doc["summary"]["scan_speed"] = scan_speed(profile).to_json()
         if args.per_led:
             led = np.round(led_currents(anim.frames, profile, corner=args.corner).astype(np.float64), 4)
             for frame, ma in zip(doc["frames"], led):
@@ -63,7 +64,7 @@ def run(args: argparse.Namespace) -> int:
         sys.stdout.write(json.dumps(doc, allow_nan=False))
         sys.stdout.write("\n")
     else:
-        sys.stdout.write(render_text(report, str(args.pattern), ranges, every_place=args.all))
+        sys.stdout.write(render_text(report, str(args.pattern), ranges, every_place=args.all, profile=profile))
     return EXIT_OK if report.ok else EXIT_VIOLATION
 
 
@@ -75,7 +76,8 @@ def _ma(x: float) -> str:
     return "-" if not np.isfinite(x) else f"{x:.1f}"
 
 
-def render_text(report: Report, pattern: str, ranges: dict | None = None, every_place: bool = False) -> str:
+def render_text(report: Report, pattern: str, ranges: dict | None = None, every_place: bool = False,
+                profile=None) -> str:
     t = report.timing
     lines = [f"check {pattern} on {report.profile}, {report.corner} corner: {report.n_frames} frames",
              "",
@@ -126,6 +128,8 @@ def render_text(report: Report, pattern: str, ranges: dict | None = None, every_
     lines.append(f"timing: refresh {t.refresh_hz:.1f} Hz, duty {100 * t.duty:.2f} %, effective duty "
                  f"{100 * t.effective_duty:.2f} % (blanking), shifting {t.shift_us:.1f} us of a {t.row_period_us:g} us slot")
     lines.append(f"flicker: {t.flicker_text}")
+    if profile is not None:
+        lines.extend(scan_speed(profile).lines())
     if report.flash is not None:
         lines.append(f"flash: {report.flash.message}")
     lines.append("verdict: " + ("OK, every frame inside every limit" if report.ok else

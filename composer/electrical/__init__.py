@@ -15,7 +15,8 @@ from .engine import analyse, check_profile, firmware_lit_limit, guard
 from .headroom import led_currents, places_over, register_totals
 from .limits import RULES, Violation
 from .report import Report, Verdict
+from .scan_speed import ScanSpeed, scan_speed
 from .solve import CORNERS
 
 __all__ = ["analyse", "guard", "firmware_lit_limit", "check_profile", "led_currents", "places_over", "register_totals",
-           "Report", "Verdict", "Violation", "RULES", "CORNERS"]
+           "Report", "Verdict", "Violation", "RULES", "CORNERS", "ScanSpeed", "scan_speed"]

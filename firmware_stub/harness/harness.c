@@ -58,7 +58,7 @@
 #define PIN_OE 2
 #define VEC_TIMER1_COMPA 11
 #define VEC_TIMER1_COMPB 12
-#define MAX_CHIPS 8
+#define MAX_CHIPS 16             /* above the firmware's 10 bytes a row slot (core/config.h) */
 #define POLL_CYCLES 1000
 
 static avr_t *avr;
