@@ -32,11 +32,13 @@ def configure(parser: argparse.ArgumentParser) -> None:
                         "red and green current in mA (rows x cols x 2, 0 where off) at the chosen corner")
 
 
-def corner_ranges(anim, profile) -> dict[str, dict[str, list[float | None]]]:
-    """LED current range per colour at every corner (the brightness picture beside the limits)."""
+def corner_ranges(anim, profile, known: Report | None = None) -> dict[str, dict[str, list[float | None]]]:
+    """LED current range per colour at every corner (the brightness picture beside the limits); ``known`` is
+    a report already made at one corner, not analysed again."""
     out = {}
     for corner in CORNERS:
-        rep = analyse(anim.frames, anim.durations_ms, profile, corner=corner)
+        rep = known if known is not None and known.corner == corner else analyse(
+            anim.frames, anim.durations_ms, profile, corner=corner)
         out[corner] = rep.led_ma_range()
     return out
 
@@ -49,7 +51,7 @@ def run(args: argparse.Namespace) -> int:
     if args.all:
         report = dataclasses.replace(report, violations=places_over(anim.frames, anim.durations_ms, profile,
                                                                     corner=args.corner))
-    ranges = corner_ranges(anim, profile)
+    ranges = corner_ranges(anim, profile, report)
     if args.json:
         doc = report.to_json()
         doc["summary"]["pattern"] = str(args.pattern)
