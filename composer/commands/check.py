@@ -20,7 +20,7 @@ __all__ = ["configure", "run", "render_text", "corner_ranges"]
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.rowcast.toml)")
+    parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.rowcast.toml) or bundled demo name")
     parser.add_argument("--profile", metavar="NAME|PATH", help="hardware profile (default: the one the "
                         "pattern names)")
     parser.add_argument("--corner", choices=CORNERS, default="stress",

@@ -24,6 +24,7 @@ from .frames import FrameStrip
 from .generate_actions import GenerateActions
 from .headroom_actions import HeadroomActions
 from .keys import editor_bindings
+from .light_actions import LightActions
 from .link_actions import LinkActions
 from .pattern_actions import PatternActions
 from .readout import Readout
@@ -33,8 +34,13 @@ from .startup import Startup
 __all__ = ["EditorScreen"]
 
 
+<<<<<<< HEAD
 class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, PatternActions, FileActions,
                    AnimationChecks, HeadroomActions, Screen):
+=======
+class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, LightActions, PatternActions,
+                   FileActions, AnimationChecks, Screen):
+>>>>>>> main
     BINDINGS = editor_bindings()
     HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (118, "-wide")]
 
@@ -92,7 +98,7 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Patt
     def redraw(self, *, full: bool = False, readout: bool = True) -> None:
         s = self.session
         onion = s.previous_frame if self.onion else None
-        self.canvas.show_state(s.frame, onion, s.cursor, s.mark)
+        self.canvas.show_state(s.frame, onion, s.cursor, s.mark, self.lit_shade(s.frame))
         self.query_one(FrameStrip).update_frames(s.anim.durations_ms, self.checks.verdicts(), s.current,
                                                  s.selected, self.playing, self.checks.utilisations())
         if readout or full:
@@ -125,6 +131,8 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Patt
             flags.append("wrap")
         if self.onion:
             flags.append("onion")
+        if self.lit_corner is not None:
+            flags.append(f"as lit {self.lit_corner}")
         if s.clipboard is not None:
             flags.append(f"clip {s.clipboard.shape[0]}x{s.clipboard.shape[1]}")
         self._set_line("#tool", " · ".join(flags))
