@@ -529,7 +529,7 @@ async def test_resize_switches_layout(tmp_path):
         assert ed.has_class("-wide")
         assert ed.query_one("#link-pane").region.width > 0 and ed.query_one("#readout-pane").region.width > 0
         text = screen_text(app)
-        assert "link to the panel" in text and "nearest part to its limit" in text
+        assert "link to the panel" in text and "row headroom" in text
 
 
 @async_test

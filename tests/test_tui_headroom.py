@@ -78,7 +78,7 @@ async def test_cursor_readout_gives_the_led_and_its_register_package(tmp_path):
     path = _pattern(tmp_path)
     prof = load_profile("bench-8x8")
     app = app_for(path)
-    async with app.run_test(size=(120, 40)) as pilot:
+    async with app.run_test(size=(160, 40)) as pilot:     # wide: the cursor line fits on one line
         await pilot.press("]", "down", "down")           # frame 1, row 2, column 0: one of eight red
         await pilot.pause()
         s = app.editor.session

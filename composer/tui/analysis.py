@@ -33,13 +33,10 @@ class FrameResult:
     ok: bool
     rules: tuple[str, ...]        # broken rules, in the engine's order
     messages: tuple[str, ...]     # one line per violation
-<<<<<<< HEAD
+    led_uniformity: tuple[float, float] = (float("nan"), float("nan"))   # red, green: dimmest / brightest lit
     utilisation: float = 0.0      # the binding rule's measured / limit (1.0 = at the limit)
     binding: str = ""             # the rule closest to (or furthest over) its limit
     row_use: np.ndarray | None = None   # (rows,) per row, its own parts' highest utilisation
-=======
-    led_uniformity: tuple[float, float] = (float("nan"), float("nan"))   # red, green: dimmest / brightest lit
->>>>>>> main
 
 
 def _per_frame(value, n: int) -> np.ndarray:
@@ -66,13 +63,9 @@ def _split(report, n: int) -> list[FrameResult]:
     return [FrameResult(row_ma[i].copy(), int(fields["worst_row"][i]), float(fields["worst_row_ma"][i]),
                         float(fields["pin_ma_max"][i]), float(fields["package_ma_max"][i]),
                         float(fields["supply_peak_ma"][i]), float(fields["supply_avg_ma"][i]), bool(ok[i]),
-<<<<<<< HEAD
-                        tuple(rules[i]), tuple(messages[i]), float(report.utilisation[i]), report.binding(i),
-                        row_use[i].copy()) for i in range(n)]
-=======
                         tuple(rules[i]), tuple(messages[i]),
-                        (float(evenness[i, 0]), float(evenness[i, 1]))) for i in range(n)]
->>>>>>> main
+                        (float(evenness[i, 0]), float(evenness[i, 1])), float(report.utilisation[i]),
+                        report.binding(i), row_use[i].copy()) for i in range(n)]
 
 
 @dataclass

@@ -34,13 +34,8 @@ from .startup import Startup
 __all__ = ["EditorScreen"]
 
 
-<<<<<<< HEAD
-class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, PatternActions, FileActions,
-                   AnimationChecks, HeadroomActions, Screen):
-=======
 class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, LightActions, PatternActions,
-                   FileActions, AnimationChecks, Screen):
->>>>>>> main
+                   FileActions, AnimationChecks, HeadroomActions, Screen):
     BINDINGS = editor_bindings()
     HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (118, "-wide")]
 

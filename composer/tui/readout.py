@@ -145,32 +145,11 @@ class Readout(Widget):
             t.append((self._cursor or " ") + "\n")
             t.append("analysing…\n", "dim")
             return t
-<<<<<<< HEAD
         corner = CORNER
         t.append((self._cursor or " ") + "\n")           # line 0: the LED under the cursor (show_cursor)
         self._headline(t, res, current, ms, corner)
         self._row_bars(t, res, width, corner)
         self._totals(t, res, corner)
-=======
-        limit = checks.row_limit_ma or max(1.0, float(res.row_ma.max(initial=1.0)))
-        head = f"frame {current} · {ms} ms · "
-        t.append(head, "bold")
-        t.append("within limits" if res.ok else "OVER: " + ", ".join(dict.fromkeys(res.rules)),
-                 _OK if res.ok else _BAD)
-        t.append(f"\nrow current (limit {limit:.0f} mA)\n", "dim")
-        bar_w = max(6, min(30, width - 15))
-        for r, ma in enumerate(res.row_ma.tolist()):
-            bar, over = _bar(ma, limit, bar_w)
-            mark = "◀" if r == res.worst_row else " "
-            t.append(f"{r:>2} ", "dim")
-            t.append(bar, _BAD if over else _OK)
-            t.append(f" {ma:6.1f}{mark}\n", _BAD if over else "")
-        t.append(f"worst row {res.worst_row}: {res.worst_row_ma:.1f} mA\n")
-        t.append(f"pin max {res.pin_ma_max:.1f} mA · package max {res.package_ma_max:.1f} mA\n")
-        t.append(f"supply peak {res.supply_peak_ma:.0f} mA · average {res.supply_avg_ma:.0f} mA\n")
-        even = " · ".join(f"{c} {u:.2f}" if u == u else f"{c} –" for c, u in zip(("red", "green"), res.led_uniformity))
-        t.append(f"LED evenness {even}\n")
->>>>>>> main
         for line in res.messages[:3]:
             t.append(f"! {line}\n", _BAD)
         for line in self._fix:
@@ -208,6 +187,8 @@ class Readout(Widget):
         t.append(f"worst row {res.worst_row}: {res.worst_row_ma:.1f} mA · pin max {res.pin_ma_max:.1f} mA · "
                  f"package max {res.package_ma_max:.1f} mA ({corner})\n")
         t.append(f"supply peak {res.supply_peak_ma:.0f} mA · average {res.supply_avg_ma:.0f} mA ({corner})\n")
+        even = " · ".join(f"{c} {u:.2f}" if u == u else f"{c} –" for c, u in zip(("red", "green"), res.led_uniformity))
+        t.append(f"LED evenness {even} ({corner})\n")
 
     @staticmethod
     def _use_sparkline(t: Text, checks: FrameChecks, current: int, width: int, corner: str) -> None:
