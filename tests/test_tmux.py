@@ -35,10 +35,12 @@ class Tmux:
             raise AssertionError(f"tmux {' '.join(args)}: {out.stderr.strip()}")
         return out.stdout
 
-    def start(self, name: str, command: str, env: dict[str, str], width: int = 80, height: int = 24) -> None:
+    def start(self, name: str, command: str, env: dict[str, str], width: int = 80, height: int = 24,
+              cwd: Path | None = None) -> None:
         exports = " ".join(f"{k}={shlex.quote(v)}" for k, v in env.items())
+        where = ["-c", str(cwd)] if cwd is not None else []
         # exec: the pane's process is rowcast itself, so a kill reaches it and nothing else
-        self.run("new-session", "-d", "-s", name, "-x", str(width), "-y", str(height),
+        self.run("new-session", "-d", "-s", name, "-x", str(width), "-y", str(height), *where,
                  f"exec env {exports} {command}")
         self.sessions.append(name)
 
@@ -158,3 +160,49 @@ def test_crash_then_recover_the_autosave(term, tmp_path):
     while any(autosaves.glob("door-*.rowcast.toml")) and time.monotonic() < deadline:
         time.sleep(0.1)
     assert not any(autosaves.glob("door-*.rowcast.toml")), "the autosave outlived the save"
+
+
+def test_new_pattern_on_a_profile_file_then_another_profile(term, tmp_path):
+    """The whole new-pattern flow as a user types it: a missing file and an own profile file, paint,
+    save, move to a bundled profile of another size, save as without the suffix; both files reopen
+    through the command line from another folder."""
+    rowcast = need_tool("rowcast")
+    from conftest import PROFILES
+    (tmp_path / "work").mkdir()
+    (tmp_path / "signs").mkdir()
+    text = (PROFILES / "wide-16x8.toml").read_text(encoding="utf-8")
+    (tmp_path / "work" / "my-panel.toml").write_text(text.replace('name = "wide-16x8"', 'name = "my-panel"', 1))
+    term.start("new", f"{rowcast} edit signs/new.rowcast.toml --profile work/my-panel.toml", _env(tmp_path),
+               cwd=tmp_path)
+    screen = term.wait_for("new", "does not exist yet")
+    assert "my-panel (16x8 LEDs" in screen, screen
+    term.keys("new", "Enter")                                                # "New pattern" has the focus
+    term.wait_for("new", "my-panel 16x8")
+    term.keys("new", "Space", "C-s")
+    term.wait_for("new", "saved signs/new.rowcast.toml")
+    term.keys("new", "#")
+    term.wait_for("new", "Change the profile")
+    term.keys("new", "Enter")                                                # bench-8x8, first in the list
+    term.wait_for("new", "Which part of the picture stays")
+    term.keys("new", "Enter")                                                # centre is highlighted
+    term.wait_for("new", "bench-8x8 8x8")
+    term.keys("new", "S")
+    term.wait_for("new", "Save as")
+    term.keys("new", "C-u")                                                  # clear the suggested name
+    term.run("send-keys", "-t", "new", "-l", "signs/small")
+    term.keys("new", "Enter")
+    term.wait_for("new", "saved signs/small.rowcast.toml")
+    term.keys("new", "q")
+    deadline = time.monotonic() + 10
+    while term.alive("new") and time.monotonic() < deadline:
+        time.sleep(0.1)
+    assert not term.alive("new"), "rowcast did not quit"
+    big = tomllib.loads((tmp_path / "signs" / "new.rowcast.toml").read_text(encoding="utf-8"))
+    small = tomllib.loads((tmp_path / "signs" / "small.rowcast.toml").read_text(encoding="utf-8"))
+    assert big["profile"] == "../work/my-panel.toml" and small["profile"] == "bench-8x8"
+    assert big["frame"][0]["leds"].splitlines()[0] == "r" + "." * 15
+    assert [len(r) for r in small["frame"][0]["leds"].splitlines()] == [8] * 8
+    for name in ("new", "small"):                                           # both reopen from elsewhere
+        done = subprocess.run([rowcast, "check", str(tmp_path / "signs" / f"{name}.rowcast.toml")],
+                              capture_output=True, text=True, timeout=60, cwd="/")
+        assert done.returncode in (0, 1), done.stderr
