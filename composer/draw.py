@@ -9,7 +9,7 @@ from __future__ import annotations
 import numpy as np
 
 from .errors import InputError
-from .model import AMBER, OFF
+from .model import AMBER, OFF, size_text
 
 __all__ = ["line_points", "draw_line", "draw_rect", "flood_fill", "set_led", "toggle_led"]
 
@@ -88,7 +88,7 @@ def flood_fill(frame: np.ndarray, row: int, col: int, state: int) -> np.ndarray:
     value = _check_state(state)
     rows, cols = frame.shape
     if not (0 <= row < rows and 0 <= col < cols):
-        raise InputError(f"LED ({row}, {col}) is outside the {rows}x{cols} panel")
+        raise InputError(f"LED ({row}, {col}) is outside the {size_text(rows, cols)} panel")
     out = frame.copy()
     same = frame == frame[row, col]
     region = np.zeros_like(same)

@@ -40,7 +40,7 @@ def check_frame_array(frames: np.ndarray) -> np.ndarray:
     if not 1 <= n <= MAX_FRAMES:
         raise InputError(f"{n} frames: an animation holds 1 to {MAX_FRAMES} frames")
     if not (1 <= rows <= MAX_SIDE and 1 <= cols <= MAX_SIDE):
-        raise InputError(f"{rows}x{cols} LEDs: at most {MAX_SIDE}x{MAX_SIDE}")
+        raise InputError(f"{size_text(rows, cols)} LEDs: at most {MAX_SIDE}x{MAX_SIDE}")
     if frames.size and int(frames.max(initial=0)) > AMBER:
         raise InputError("LED states must be 0 (off), 1 (red), 2 (green) or 3 (amber)")
     return frames.astype(np.uint8, copy=False)
@@ -125,8 +125,8 @@ class Animation:
             frame = np.zeros((self.rows, self.cols), np.uint8)
         frame = np.asarray(frame, np.uint8)
         if frame.shape != (self.rows, self.cols):
-            raise InputError(f"frame is {frame.shape[0]}x{frame.shape[1]}, the animation is "
-                             f"{self.rows}x{self.cols}")
+            raise InputError(f"frame is {size_text(*frame.shape)}, the animation is "
+                             f"{size_text(self.rows, self.cols)}")
         ms = _check_ms(DEFAULT_MS if ms is None else ms)
         self.frames = np.insert(self.frames, at, frame, axis=0)
         self.durations_ms = np.insert(self.durations_ms, at, ms)
@@ -161,7 +161,7 @@ class Animation:
         i = self._index(i)
         frame = np.asarray(frame)
         if frame.shape != (self.rows, self.cols):
-            raise InputError(f"frame is {frame.shape}, the animation is {self.rows}x{self.cols}")
+            raise InputError(f"frame is {size_text(*frame.shape)}, the animation is {size_text(self.rows, self.cols)}")
         if frame.size and int(frame.max()) > AMBER:
             raise InputError("LED states must be 0..3")
         self.frames[i] = frame
@@ -196,7 +196,7 @@ def rotate(frame: np.ndarray, quarter_turns: int = 1) -> np.ndarray:
     """Rotate clockwise by quarter turns; only square panels keep their shape."""
     rows, cols = frame.shape
     if rows != cols and quarter_turns % 2:
-        raise InputError(f"cannot rotate a {rows}x{cols} panel by a quarter turn: it is not square")
+        raise InputError(f"cannot rotate a {size_text(rows, cols)} panel by a quarter turn: it is not square")
     return np.rot90(frame, -quarter_turns).copy()
 
 

@@ -28,7 +28,7 @@ import tomli_w
 from .atomic import atomic_write_text
 from .bundled import resolve_pattern_ref
 from .errors import InputError, did_you_mean, escape_text, shorten
-from .model import MAX_FRAMES, MAX_MS, MAX_SIDE, MIN_MS, Animation
+from .model import MAX_FRAMES, MAX_MS, MAX_SIDE, MIN_MS, Animation, size_text
 from .profile import Profile, load_profile
 from .textfile import find_key_line, line_of, parse_toml, read_text_file
 
@@ -213,8 +213,8 @@ def _slow_frames(blocks: list[str], w: _Where) -> np.ndarray:
         if shape is None:
             shape = (len(lines), len(lines[0]))
         elif (len(lines), len(lines[0])) != shape:
-            raise w.fail(f"is {len(lines)}x{len(lines[0])}, frame 0 is {shape[0]}x{shape[1]}", where=f"frame {i}",
-                         line=w.frame_line(i, "leds"))
+            raise w.fail(f"is {size_text(len(lines), len(lines[0]))}, frame 0 is {size_text(*shape)}",
+                         where=f"frame {i}", line=w.frame_line(i, "leds"))
     raise AssertionError("the fast frame check refused frames the slow check accepts")
 
 
@@ -241,8 +241,8 @@ def save_pattern(anim: Animation, path: str | Path) -> None:
 
 def check_fits_profile(anim: Animation, profile: Profile, path: str | Path | None = None) -> None:
     if (anim.rows, anim.cols) != (profile.rows, profile.cols):
-        raise InputError(f"the pattern is {anim.rows}x{anim.cols} LEDs but profile {profile.name} is "
-                         f"{profile.rows}x{profile.cols}", path=path, where="profile")
+        raise InputError(f"the pattern is {size_text(anim.rows, anim.cols)} LEDs but profile {profile.name} is "
+                         f"{size_text(profile.rows, profile.cols)}", path=path, where="profile")
 
 
 def open_pattern(path: str | Path, profile: str | Path | None = None) -> tuple[Animation, Profile]:

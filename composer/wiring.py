@@ -23,7 +23,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from .model import GREEN, RED
+from .model import GREEN, RED, size_text
 from .profile import Profile, Register
 
 __all__ = ["shift_order", "shift_bytes", "decode_shift_bytes", "frame_from_shift_bytes", "GuardMasks",
@@ -65,7 +65,8 @@ def shift_bytes(frames: np.ndarray, profile: Profile) -> np.ndarray:
         frames = frames[None]
     n, rows, cols = frames.shape
     if (rows, cols) != (profile.rows, profile.cols):
-        raise ValueError(f"frames are {rows}x{cols}, profile {profile.name} is {profile.rows}x{profile.cols}")
+        raise ValueError(f"frames are {size_text(rows, cols)}, profile {profile.name} is "
+                         f"{size_text(profile.rows, profile.cols)}")
     weights = _bit_weights(profile.chain.bit_order)
     order = shift_order(profile)
     out = np.empty((n, rows, len(order)), np.uint8)

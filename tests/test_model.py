@@ -44,7 +44,7 @@ def test_insert_blank_and_given_frame():
 
 def test_insert_rejects_wrong_shape_and_index():
     a = numbered()
-    with pytest.raises(InputError, match="3x5"):
+    with pytest.raises(InputError, match="5x3"):
         a.insert(0, np.zeros((2, 2), np.uint8))
     with pytest.raises(InputError, match="frame 9"):
         a.insert(9)

@@ -122,7 +122,7 @@ MALFORMED = [
     ("space inside row", _sub("..a.....", "..a. ..."), ["frame 0 row 2", "whitespace"]),
     ("bad character", _sub("..a.....", "..x....."), ["frame 0 row 2", "'x'"]),
     ("upper case", _sub("r.......", "R......."), ["frame 0 row 0", "'R'"]),
-    ("frames differ in size", _sub("aaaaaaaa\n", "aaaaaaaa\naaaaaaaa\n"), ["frame 1", "9x8"]),
+    ("frames differ in size", _sub("aaaaaaaa\n", "aaaaaaaa\naaaaaaaa\n"), ["frame 1", "8x9"]),
     ("truncated", lambda t: t[: t.index("..a.....") + 4], ["not valid TOML"]),
     ("no frames", lambda t: t[: t.index("[[frame]]")], ["frame"]),
     ("frame is not a table", lambda t: t[: t.index("[[frame]]")] + "frame = 3\n", ["frame"]),
@@ -195,7 +195,7 @@ def test_the_largest_legal_pattern_is_under_the_file_size_limit():
 def test_profile_mismatch_is_reported(tmp_path):
     path = tmp_path / "p.rowcast.toml"
     path.write_text(GOOD)
-    with pytest.raises(InputError, match="8x8 LEDs but profile wide-16x8 is 8x16"):
+    with pytest.raises(InputError, match="8x8 LEDs but profile wide-16x8 is 16x8"):
         open_pattern(path, "wide-16x8")
 
 

@@ -8,6 +8,7 @@ from __future__ import annotations
 import argparse
 
 from ..bundled import PATTERNS_DIR, bundled_demos
+from ..model import size_text
 from ..pattern_file import load_pattern
 
 __all__ = ["configure", "run"]
@@ -24,7 +25,7 @@ def run(args: argparse.Namespace) -> int:
     for name, path in demos.items():
         anim = load_pattern(path)          # every line describes what the file really holds
         seconds = anim.total_ms / 1000
-        print(f"{name:<{width}}  {anim.rows:>3}x{anim.cols:<3} {anim.n_frames:>4} frames {seconds:>6.1f} s  "
+        print(f"{name:<{width}}  {size_text(anim.rows, anim.cols):>7} {anim.n_frames:>4} frames {seconds:>6.1f} s  "
               f"{anim.profile:<14} {anim.name}")
     print(f"{len(demos)} demos in {PATTERNS_DIR}; give a name where a pattern file goes "
           "(rowcast check NAME, rowcast edit NAME opens it read-only)")

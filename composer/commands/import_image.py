@@ -9,7 +9,7 @@ from ..errors import InputError
 
 from ..generate.image_import import import_image
 from ..generate.pattern_ref import profile_ref_for
-from ..model import MAX_MS, MIN_MS
+from ..model import MAX_MS, MIN_MS, size_text
 from ..pattern_file import save_pattern
 from ..profile import load_profile
 from ..generate.cli_args import check_pattern_out, ms_arg, warn_if_over
@@ -41,5 +41,5 @@ def run(args: argparse.Namespace) -> int:
     anim = import_image(args.image, profile, fit=args.fit, dither=args.dither, name=args.name, ms=args.ms,
                         profile_ref=profile_ref_for(args.profile, out))
     save_pattern(anim, out)
-    print(f"wrote {out}: {anim.n_frames} frame(s), {anim.rows}x{anim.cols}, {anim.total_ms} ms")
+    print(f"wrote {out}: {anim.n_frames} frame(s), {size_text(anim.rows, anim.cols)}, {anim.total_ms} ms")
     return warn_if_over(anim, profile, out, "import")

@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import argparse
 
+from ..model import size_text
 from ..profile import bundled_profiles, load_profile
 
 
@@ -14,5 +15,5 @@ def run(args: argparse.Namespace) -> int:
     del args
     for name in bundled_profiles():
         prof = load_profile(name)
-        print(f"{name:<14} {prof.rows:>3}x{prof.cols:<3} common {prof.panel.common:<7} {prof.description}")
+        print(f"{name:<14} {size_text(prof.rows, prof.cols):>7} common {prof.panel.common:<7} {prof.description}")
     return 0

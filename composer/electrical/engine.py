@@ -12,7 +12,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
-from ..model import MAX_FRAMES, MAX_SIDE, check_frame_array
+from ..model import MAX_FRAMES, MAX_SIDE, check_frame_array, size_text
 from ..profile import COLOURS, Profile, profile_error
 from .counts import ColumnGroup, column_groups, lit_counts
 from .flash import flash_check
@@ -108,7 +108,7 @@ def analyse(frames, durations_ms, profile: Profile, *, corner: str = "typ") -> R
     frames = _checked(frames)
     if frames.shape[1:] != (profile.rows, profile.cols):
         raise InputError(f"frames are {frames.shape[1]}x{frames.shape[2]} LEDs but profile {profile.name} is "
-                         f"{profile.rows}x{profile.cols}")
+                         f"{size_text(profile.rows, profile.cols)}")
     durations = np.asarray(durations_ms, dtype=np.int64).reshape(-1)
     if durations.shape[0] != frames.shape[0]:
         raise InputError(f"{frames.shape[0]} frames but {durations.shape[0]} durations")
@@ -134,7 +134,7 @@ def guard(frame, profile: Profile) -> Verdict:
     frame = np.asarray(frame, dtype=np.uint8)
     if frame.shape != (profile.rows, profile.cols):
         raise InputError(f"frame is {'x'.join(map(str, frame.shape))} but profile {profile.name} is "
-                         f"{profile.rows}x{profile.cols}")
+                         f"{size_text(profile.rows, profile.cols)}")
     key = (id(profile), frame.tobytes())
     hit = _VERDICTS.get(key)
     if hit is not None and hit[0] is profile:

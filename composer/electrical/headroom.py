@@ -10,6 +10,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import InputError
+from ..model import size_text
 from ..profile import COLOURS, Profile
 from .counts import lit_counts, per_register
 from .engine import _checked, _package_name, _prep, analyse
@@ -22,7 +23,7 @@ def _frames_for(frames, profile: Profile) -> np.ndarray:
     frames = _checked(frames)
     if frames.shape[1:] != (profile.rows, profile.cols):
         raise InputError(f"frames are {frames.shape[1]}x{frames.shape[2]} LEDs but profile {profile.name} is "
-                         f"{profile.rows}x{profile.cols}")
+                         f"{size_text(profile.rows, profile.cols)}")
     return frames
 
 

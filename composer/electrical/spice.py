@@ -14,6 +14,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
+from ..model import size_text
 from ..profile import COLOURS, Profile
 from .diode import VT
 from .drivers import DropModel
@@ -61,7 +62,7 @@ def row_netlist(profile: Profile, frame: np.ndarray, row: int, *, corner: str = 
     frame = np.asarray(frame)
     if frame.shape != (profile.rows, profile.cols):
         raise InputError(f"frame is {'x'.join(map(str, frame.shape))}, profile {profile.name} is "
-                         f"{profile.rows}x{profile.cols}")
+                         f"{size_text(profile.rows, profile.cols)}")
     if not 0 <= row < profile.rows:
         raise InputError(f"row {row} is outside 0..{profile.rows - 1}")
     c: Circuit = circuit_for(profile, corner)

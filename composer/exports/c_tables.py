@@ -24,7 +24,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import InputError
-from ..model import Animation
+from ..model import Animation, size_text
 from ..profile import Profile
 from ..wiring import idle_bytes, shift_bytes, shift_order
 
@@ -152,7 +152,8 @@ def c_header(anim: Animation, profile: Profile, report: Any, *, layout: str = "s
 
     # -- comment block ---------------------------------------------------------------------------
     add("/*")
-    add(f" * {_comment_safe(anim.name)}: {n} frame(s) of {rows} x {cols} two-colour LEDs, "
+    add(f" * {_comment_safe(anim.name)}: {n} frame{'s' if n != 1 else ''} of {size_text(rows, cols)} (columns x rows) "
+        "two-colour LEDs, "
         f"{int(anim.durations_ms.sum())} ms in all.")
     if source_name:
         add(f" * Made by rowcast export from {_comment_safe(source_name)}.")
@@ -207,7 +208,8 @@ def c_header(anim: Animation, profile: Profile, report: Any, *, layout: str = "s
     ms_bytes = n * (2 if ctype == "uint16_t" else 4)
     add(f" * {low}_durations_ms[frame] ({ctype}) is how long each frame is shown, in milliseconds.")
     add(f" * Table sizes: {table_bytes} + {ms_bytes} bytes (an ATmega328P-class chip has 32 KB of flash and 2 KB")
-    add(" * of RAM: use --progmem there, and fewer frames if the sum nears the flash left by your code).")
+    add(" * of RAM: " + ("the tables are in flash (--progmem); use " if progmem else "use --progmem there, and ")
+        + "fewer frames if the sum nears the flash left by your code).")
     if progmem:
         add(f" * Tables carry {up}_PROGMEM: program memory on AVR (read them with pgm_read_byte, and the")
         add(" * durations with pgm_read_word or pgm_read_dword, from avr/pgmspace.h), nothing elsewhere.")

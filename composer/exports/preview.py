@@ -19,7 +19,7 @@ from PIL import Image, ImageDraw, ImageFont
 
 from ..electrical.light import OFF_SRGB, Lit
 from ..errors import InputError
-from ..model import Animation
+from ..model import Animation, size_text
 
 __all__ = ["COLOURS_RGB", "OFF_RGB", "BOARD_RGB", "LEVELS", "MIN_SCALE", "MAX_SCALE", "DEFAULT_SCALE",
            "MAX_PIXELS", "GIF_MAX_CS", "check_scale", "gif_delays_ms", "frame_image", "gif_bytes",
@@ -67,7 +67,7 @@ def check_scale(scale: int) -> int:
 
 def _check_pixels(n: int, rows: int, cols: int, scale: int) -> None:
     if n * rows * cols * scale * scale > MAX_PIXELS:
-        raise InputError(f"{n} frames of {rows}x{cols} LEDs at --scale {scale} would be over "
+        raise InputError(f"{n} frames of {size_text(rows, cols)} LEDs at --scale {scale} would be over "
                          f"{MAX_PIXELS} pixels; use a smaller --scale")
 
 

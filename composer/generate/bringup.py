@@ -22,7 +22,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
-from ..model import AMBER, GREEN, MAX_FRAMES, RED, Animation
+from ..model import AMBER, GREEN, MAX_FRAMES, RED, Animation, size_text
 from ..profile import Profile
 
 __all__ = ["DEFAULT_STEP_MS", "DEFAULT_WALK_MS", "CORNERS_MS", "CHECK_CORNER", "Step", "candidate_steps",
@@ -94,7 +94,8 @@ def bringup_animation(profile: Profile, *, step_ms: int = DEFAULT_STEP_MS, walk_
                       profile_ref: str | None = None) -> Animation:
     rows, cols = profile.rows, profile.cols
     if 1 + 4 * max(rows, cols) + rows * cols > MAX_FRAMES:
-        raise InputError(f"profile {profile.name}: a {rows}x{cols} panel needs over {MAX_FRAMES} wiring-test frames")
+        raise InputError(f"profile {profile.name}: a {size_text(rows, cols)} panel needs over {MAX_FRAMES} "
+                         "wiring-test frames")
     steps = candidate_steps(rows, cols, step_ms, walk_ms)
     for _ in range(12):           # each round halves the failing steps; 2**12 LEDs is beyond any row
         report = _check(steps, profile)
@@ -122,8 +123,8 @@ def bringup_animation(profile: Profile, *, step_ms: int = DEFAULT_STEP_MS, walk_
             raise InputError(f"profile {profile.name}: the wiring test would need over {MAX_FRAMES} frames")
     else:
         raise InputError(f"profile {profile.name}: could not split the wiring test within the limits")
-    notes = [f"wiring test for {profile.name} ({rows}x{cols}); every frame checked against the profile's limits "
-             f"at the {CHECK_CORNER} corner"]
+    notes = [f"wiring test for {profile.name} ({size_text(rows, cols)} LEDs); every frame checked against the "
+             f"profile's limits at the {CHECK_CORNER} corner"]
     for section in ("corners", "rows", "columns", "walk"):
         idx = [i for i, s in enumerate(steps) if s.section == section]
         if idx:

@@ -125,7 +125,8 @@ class FileActions(_Editor):
                 return
             self._save_to(path, then)
 
-        self.app.push_screen(AskText("Save as", f"file name ({PATTERN_SUFFIX} is added when missing)", suggestion, check=check, id="ask-save-as"), chosen)
+        self.app.push_screen(AskText("Save as", f"file name ({PATTERN_SUFFIX} is added when missing)", suggestion,
+                                     check=check, id="ask-save-as"), chosen)
 
     def action_help(self) -> None:
         self.app.push_screen(HelpScreen(GROUPS))

@@ -107,7 +107,8 @@ class PatternActions(_Editor):
 
         here = str(self.session.path.parent) + "/" if self.session.path is not None else ""
         self.unsaved_then("Open another pattern", lambda: self.app.push_screen(
-            AskText("Open a pattern", "pattern file (*.rowcast.toml) or a bundled demo's name", here, check=check, id="ask-open"), chosen))
+            AskText("Open a pattern", "pattern file (*.rowcast.toml) or a bundled demo's name", here, check=check,
+                    id="ask-open"), chosen))
 
     def action_change_profile(self) -> None:
         s = self.session
