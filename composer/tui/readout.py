@@ -21,6 +21,7 @@ __all__ = ["Readout", "sparkline"]
 _LEVELS = " ▁▂▃▄▅▆▇█"
 _BAD = "bold #ff3a3a"
 _OK = "#3ad13a"
+_OTHER_LINES = 12       # the readout's lines besides the row bars (summary, sparkline, notes)
 
 
 def _bar(value: float, limit: float, width: int) -> tuple[str, bool]:
@@ -45,6 +46,16 @@ def sparkline(values: np.ndarray, limit: float, width: int, current: int) -> tup
     upper[(ratio > 1.0) & (upper == 0)] = 1        # any excess at all shows
     col = next(k for k, g in enumerate(groups) if current in g) if n else 0
     return "".join(_LEVELS[u] for u in upper), "".join(_LEVELS[v] for v in lower), col
+
+
+def _two_lines(t: Text, upper: str, lower: str, col: int) -> None:
+    """A sparkline's two lines (over the limit, up to it), column ``col`` in inverse."""
+    t.append("  over ")
+    t.append(upper, _BAD)
+    t.append("\n limit ")
+    t.append(lower[:col], _OK)
+    t.append(lower[col:col + 1] or " ", "reverse")
+    t.append(lower[col + 1:], _OK)
 
 
 class Readout(Widget):
@@ -127,6 +138,23 @@ class Readout(Widget):
             self._strips[y] = strip
         return strip
 
+    def _columns(self, rows: int, width: int) -> bool:
+        """One column a row instead of one line a row: for more than 16 rows, or more than 8 when the
+        pane is too short for a line a row and the rest of the readout (a 16-row panel at 80x24)."""
+        pane = self.parent.size.height if self.parent is not None else 0
+        return rows > 16 or (rows > 8 and 0 < pane < rows + _OTHER_LINES)
+
+    @staticmethod
+    def _row_columns(t: Text, res: FrameResult, limit: float, width: int) -> None:
+        """Row currents as a column chart: the lower line rises to the limit, the upper one shows the
+        excess (as the sparkline does); the worst row in inverse; row numbers below (last digit)."""
+        rows = len(res.row_ma)
+        upper, lower, col = sparkline(res.row_ma, limit, max(8, width - 8), int(res.worst_row))
+        _two_lines(t, upper, lower, col)
+        if len(lower) == rows:
+            t.append("\n   row " + "".join(str(r % 10) for r in range(rows)), "dim")
+        t.append("\n")
+
     def _text(self, checks: FrameChecks, current: int, ms: int, notes: list[str], *,
               width: int = 40) -> Text:
         t = Text()
@@ -141,13 +169,16 @@ class Readout(Widget):
         t.append("within limits" if res.ok else "OVER: " + ", ".join(dict.fromkeys(res.rules)),
                  _OK if res.ok else _BAD)
         t.append(f"\nrow current (limit {limit:.0f} mA)\n", "dim")
-        bar_w = max(6, min(30, width - 15))
-        for r, ma in enumerate(res.row_ma.tolist()):
-            bar, over = _bar(ma, limit, bar_w)
-            mark = "◀" if r == res.worst_row else " "
-            t.append(f"{r:>2} ", "dim")
-            t.append(bar, _BAD if over else _OK)
-            t.append(f" {ma:6.1f}{mark}\n", _BAD if over else "")
+        if self._columns(len(res.row_ma), width):
+            self._row_columns(t, res, limit, width)
+        else:
+            bar_w = max(6, min(30, width - 15))
+            for r, ma in enumerate(res.row_ma.tolist()):
+                bar, over = _bar(ma, limit, bar_w)
+                mark = "◀" if r == res.worst_row else " "
+                t.append(f"{r:>2} ", "dim")
+                t.append(bar, _BAD if over else _OK)
+                t.append(f" {ma:6.1f}{mark}\n", _BAD if over else "")
         t.append(f"worst row {res.worst_row}: {res.worst_row_ma:.1f} mA\n")
         t.append(f"pin max {res.pin_ma_max:.1f} mA · package max {res.package_ma_max:.1f} mA\n")
         t.append(f"supply peak {res.supply_peak_ma:.0f} mA · average {res.supply_avg_ma:.0f} mA\n")
@@ -156,12 +187,7 @@ class Readout(Widget):
         values = checks.worst_rows()
         upper, lower, col = sparkline(values, limit, max(8, width - 8), current)
         t.append("worst row by frame\n", "dim")
-        t.append("  over ")
-        t.append(upper, _BAD)
-        t.append("\n limit ")
-        t.append(lower[:col], _OK)
-        t.append(lower[col:col + 1] or " ", "reverse")
-        t.append(lower[col + 1:], _OK)
+        _two_lines(t, upper, lower, col)
 
         for line in notes:
             t.append("\n" + line, _BAD if line.startswith("!") else "dim")
