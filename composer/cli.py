@@ -31,6 +31,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "ports": ("transport.commands.ports", "list serial ports with descriptions and USB VID:PID"),
     "sim": ("transport.commands.sim", "start the receiver firmware in the AVR simulator"),
     "profiles": ("composer.commands.profiles", "list the bundled hardware profiles"),
+    "demos": ("composer.commands.demos", "list the bundled demo patterns (a name works wherever a pattern file does)"),
     "profile": ("composer.commands.profile_show", "show one resolved, validated profile"),
 }
 

@@ -27,6 +27,7 @@ import numpy as np
 import tomli_w
 
 from .atomic import atomic_write_text
+from .bundled import resolve_pattern_ref
 from .errors import InputError, did_you_mean
 from .model import MAX_FRAMES, MAX_MS, MAX_SIDE, MIN_MS, Animation
 from .profile import Profile, load_profile
@@ -191,11 +192,12 @@ def check_fits_profile(anim: Animation, profile: Profile, path: str | Path | Non
 
 
 def open_pattern(path: str | Path, profile: str | Path | None = None) -> tuple[Animation, Profile]:
-    """Load a pattern and its profile (``profile`` overrides the file's), checked to fit each other.
+    """Load a pattern (a file, or a bundled demo by name) and its profile (``profile`` overrides the file's),
+    checked to fit each other.
 
     The file's own profile reference is resolved relative to the pattern's folder.
     """
-    path = Path(path)
+    path = resolve_pattern_ref(path)
     anim = load_pattern(path)
     prof = load_profile(profile) if profile is not None else load_profile(anim.profile, relative_to=path.parent)
     check_fits_profile(anim, prof, path)

@@ -12,6 +12,7 @@ from textual.screen import Screen
 from textual.widgets import Footer, Static
 
 from ..errors import RowcastError
+from ..model import size_text
 from . import autosave
 from .analysis import FrameChecks
 from .anim_checks import AnimationChecks
@@ -22,7 +23,9 @@ from .frame_actions import FrameActions
 from .frames import FrameStrip
 from .generate_actions import GenerateActions
 from .keys import editor_bindings
+from .light_actions import LightActions
 from .link_actions import LinkActions
+from .pattern_actions import PatternActions
 from .readout import Readout
 from .session import ALL, BRUSH_NAMES, Edited, Session
 from .startup import Startup
@@ -30,8 +33,8 @@ from .startup import Startup
 __all__ = ["EditorScreen"]
 
 
-class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, FileActions, AnimationChecks,
-                   Screen):
+class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, LightActions, PatternActions,
+                   FileActions, AnimationChecks, Screen):
     BINDINGS = editor_bindings()
     HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (118, "-wide")]
 
@@ -87,7 +90,7 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, File
     def redraw(self, *, full: bool = False, readout: bool = True) -> None:
         s = self.session
         onion = s.previous_frame if self.onion else None
-        self.canvas.show_state(s.frame, onion, s.cursor, s.mark)
+        self.canvas.show_state(s.frame, onion, s.cursor, s.mark, self.lit_shade(s.frame))
         self.query_one(FrameStrip).update_frames(s.anim.durations_ms, self.checks.verdicts(), s.current,
                                                  s.selected, self.playing)
         if readout or full:
@@ -103,7 +106,8 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, File
             where += " [bundled: save as]"
         dirty = "✱ unsaved · " if s.dirty else ""
         self._set_line("#title",
-            f"{dirty}{s.anim.name} · frame {s.current} of {s.anim.n_frames} · {s.profile.name} · {where}")
+            f"{dirty}{s.anim.name} · frame {s.current} of {s.anim.n_frames} · {s.profile.name} "
+            f"{size_text(s.anim.rows, s.anim.cols)} · {where}")
 
     def _update_tool(self) -> None:
         s = self.session
@@ -119,6 +123,8 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, File
             flags.append(self.canvas.mode)
         if self.onion:
             flags.append("onion")
+        if self.lit_corner is not None:
+            flags.append(f"as lit {self.lit_corner}")
         if s.clipboard is not None:
             flags.append(f"clip {s.clipboard.shape[0]}x{s.clipboard.shape[1]}")
         self._set_line("#tool", " · ".join(flags))
@@ -142,13 +148,32 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, File
             return
         if self.playing:
             self._stop_play()
-        if edited.frame == ALL:
+        if edited.panel:
+            self.panel_changed()
+        elif edited.frame == ALL:
             self.checks.full(self.session.anim)
         else:
             self.checks.update(self.session.anim, edited.frame)
         self.redraw()
         self.say(edited.label)
         self.schedule_animation_check()
+        self.query_one("#link-pane").frame_edited(self.session.frame)
+
+    def panel_changed(self) -> None:
+        """Another profile or panel size: new checks, a canvas of the new size, a link panel for the
+        new profile (a connection is closed: the receiver was set up for the old profile)."""
+        s = self.session
+        self.checks = FrameChecks(s.profile)
+        self.checks.full(s.anim)
+        self._guard_cache.clear()
+        self.canvas.resize_panel(s.anim.rows, s.anim.cols)
+        self.run_worker(self._replace_link_panel(), group="link-panel", exclusive=True)
+
+    async def _replace_link_panel(self) -> None:
+        old = self.query_one("#link-pane")
+        old.shutdown()
+        await old.remove()
+        await self.query_one("#main").mount(self._make_link_panel())
         self.query_one("#link-pane").frame_edited(self.session.frame)
 
     def run_edit(self, fn, *args) -> None:
