@@ -81,3 +81,35 @@ def test_edit_opens_a_demo_read_only_and_a_new_name_as_a_new_file(tmp_path, monk
     command.run(argparse.Namespace(file="my-sign", profile=None, port=None))
     assert str(started[-1].path) == "my-sign" and not started[-1].read_only
     assert os.listdir(tmp_path) == []                    # nothing written by opening
+
+
+def test_the_composers_open_takes_a_demo_name_read_only(tmp_path, monkeypatch):
+    import numpy as np
+
+    from composer.bundled import DEMO_PATTERN
+    from composer.pattern_file import load_pattern
+    from tui_helpers import app_for, async_test, make_pattern
+
+    monkeypatch.chdir(tmp_path)
+    original = DEMO_PATTERN.read_bytes()
+
+    @async_test
+    async def drive():
+        app = app_for(make_pattern(tmp_path))
+        async with app.run_test(size=(120, 40)) as pilot:
+            await pilot.pause()
+            await pilot.press("ctrl+o")
+            await pilot.pause()
+            app.screen.query_one("#ask-input").value = "workshop-open"
+            await pilot.press("enter")
+            await pilot.pause()
+            s = app.editor.session
+            assert s.path == DEMO_PATTERN and app.startup.read_only
+            assert np.array_equal(s.anim.frames, load_pattern(DEMO_PATTERN).frames)
+            await pilot.press("space", "ctrl+s")
+            await pilot.pause()
+            assert app.screen.id == "ask-save-as"                # never onto the bundled file
+            await pilot.press("escape")
+
+    drive()
+    assert DEMO_PATTERN.read_bytes() == original
