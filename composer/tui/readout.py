@@ -194,12 +194,12 @@ class Readout(Widget):
         row numbers' last digits below."""
         use = res.row_use if res.row_use is not None else np.zeros_like(res.row_ma)
         worst = int(np.argmax(use)) if use.size else 0
-        t.append(f"row headroom ({corner}; a column a row, the limit line 100 %)\n", "dim")
+        t.append(f"row headroom ({corner}), a column a row\n", "dim")
         upper, lower, col = sparkline(use, 1.0, max(8, width - 8), worst)
         _two_lines(t, upper, lower, col)
         if len(lower) == len(use):
             t.append("\n   row " + "".join(str(r % 10) for r in range(len(use))), "dim")
-        t.append(f"\nworst row {worst}: {100 * float(use[worst]) if use.size else 0:.0f} % of its limits\n")
+        t.append("\n")
 
     @staticmethod
     def _row_bars(t: Text, res: FrameResult, width: int, corner: str) -> None:
