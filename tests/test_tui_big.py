@@ -97,7 +97,7 @@ async def test_cursor_at_every_corner_stays_on_screen_with_its_coordinates(tmp_p
                 assert c0 + 1 < c + 1 < c0 + vis_cols - 1
             # the window says where it is, and the readout is still on screen
             assert f"rows {r0}-{r0 + vis_rows - 1}/{ROWS} cols {c0}-{c0 + vis_cols - 1}/{COLS}" in text
-            assert "row current" in text and "worst row" in text
+            assert "row headroom" in text and "nearest limit" in text
         assert ed.canvas.region.width <= 0.62 * size[0]      # the side pane kept its share
 
 
