@@ -63,7 +63,7 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         yield Static("", id="title", markup=False)
         with Horizontal(id="main"):
             with Vertical(id="left"):
-                yield LedCanvas(anim.rows, anim.cols, id="canvas")
+                yield LedCanvas(anim.rows, anim.cols, id="canvas", spare_lines=2)   # the tool line
                 yield Static("", id="tool", markup=False)
             with VerticalScroll(id="readout-pane"):
                 yield Readout(id="readout")
@@ -124,6 +124,8 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
             flags.append(f"mark {s.mark[0]},{s.mark[1]}")
         if s.wrap:
             flags.append("wrap")
+        if self.canvas.mode != "normal":
+            flags.append(self.canvas.mode)
         if self.onion:
             flags.append("onion")
         if self.lit_corner is not None:
