@@ -23,8 +23,8 @@ PROFILE_NAMES = sorted(bundled_profiles())
 
 def _sections(anim) -> dict[str, range]:
     out = {}
-    for name, a, b in re.findall(r"(corners|rows|columns|walk): frames (\d+)-(\d+)", anim.notes):
-        out[name] = range(int(a), int(b) + 1)
+    for name, a, b in re.findall(r"(corners|rows|columns|walk): frames? (\d+)(?:-(\d+))?", anim.notes):
+        out[name] = range(int(a), int(b or a) + 1)      # "frame 0" for a one-frame section
     return out
 
 

@@ -165,7 +165,7 @@ async def test_url_field_keys(tmp_path):
         assert box.value == "Cx" and ed.query_one("#link-pane").link is None
         footer = screen_text(app).splitlines()[-1]
         assert "connect / switch port" in footer and "back to the canvas" in footer
-        assert "paint" not in footer and "add" not in footer  # editor keys that would only type here
+        assert "paint" not in footer and "play" not in footer  # editor keys that would only type here
         await pilot.press("escape")
         await pilot.pause()
         assert ed.canvas.has_focus and "paint" in screen_text(app).splitlines()[-1]

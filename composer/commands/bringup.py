@@ -28,6 +28,6 @@ def run(args: argparse.Namespace) -> int:
     anim = bringup_animation(profile, step_ms=args.ms, walk_ms=args.walk_ms,
                              profile_ref=profile_ref_for(args.profile, out))
     save_pattern(anim, out)
-    print(f"wrote {out}: {anim.n_frames} frames, {anim.total_ms / 1000:.1f} s")
+    print(f"wrote {out}: {anim.n_frames} frame{'s' if anim.n_frames != 1 else ''}, {anim.total_ms / 1000:.1f} s")
     print(anim.notes.replace("; ", "\n"))
     return 0

@@ -49,7 +49,7 @@ def run(args: argparse.Namespace) -> int:
             sys.stdout.write(f"no target current from 0.05 mA up keeps every frame of {args.pattern} inside the "
                              "limits at the stress corner (rowcast check shows which)\n")
             return EXIT_VIOLATION
-        sys.stdout.write(f"highest target for {args.pattern}: {design.target_ma:.2f} mA per LED with a full row "
+        sys.stdout.write(f"highest target for {args.pattern}: {design.target_ma:.3g} mA per LED with a full row "
                          "lit, every frame inside every limit at the stress corner\n")
     else:
         if args.profile is None or args.target_ma is None:
@@ -61,7 +61,7 @@ def run(args: argparse.Namespace) -> int:
         if not ok:
             sys.stdout.write(f"nothing written to {args.output}: these values leave a limit exceeded\n")
             return EXIT_VIOLATION
-        why = [f"Resistors for {design.target_ma:g} mA per LED with every LED of a row lit (typical corner), "
+        why = [f"Resistors for {design.target_ma:.3g} mA per LED with every LED of a row lit (typical corner), "
                f"{design.series} values rounded up (IEC 60063): " + _changes(design.profile, design.chosen_ohm)
                + ".", "Re-checked at the stress corner on " + design.checked_on + ": every limit holds."]
         _write(args.output, load_profile(args.profile), design.chosen_ohm, why)
@@ -117,7 +117,7 @@ def _tolerance(profile: Profile) -> str:
 def render_design(d: Design) -> str:
     p = d.profile
     lines = [f"design for {p.name}: common {p.panel.common}, {p.resistor.placement} resistor(s), target "
-             f"{d.target_ma:g} mA per LED with every LED of a row lit (typical corner)"]
+             f"{d.target_ma:.3g} mA per LED with every LED of a row lit (typical corner)"]
     for name, exact in d.exact_ohm.items():
         label = f"{name} column resistors" if name != "row" else "row resistors"
         lines.append(f"  {label}: exact {exact:.1f} ohm -> {d.chosen_ohm[name]:g} ohm ({d.series}, rounded up)")

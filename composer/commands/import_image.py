@@ -20,7 +20,8 @@ __all__ = ["configure", "run"]
 def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("image", metavar="IMAGE", help="any image pillow reads; a multi-frame GIF keeps its "
                         "frames and durations")
-    parser.add_argument("--profile", required=True, metavar="NAME|PATH", help="the panel to import for")
+    parser.add_argument("--profile", default="bench-8x8", metavar="NAME|PATH",
+                        help="the panel to import for (default bench-8x8, as rowcast edit)")
     parser.add_argument("-o", "--output", required=True, metavar="PATTERN", help="pattern file to write")
     how = parser.add_mutually_exclusive_group()
     how.add_argument("--fit", dest="fit", action="store_const", const="fit", default="fit",

@@ -23,7 +23,8 @@ __all__ = ["configure", "run"]
 def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("message", metavar="MESSAGE", help="the text to scroll (printable ASCII; Latin-1 with "
                         "--font pillow)")
-    parser.add_argument("--profile", required=True, metavar="NAME|PATH", help="the panel to make it for")
+    parser.add_argument("--profile", default="bench-8x8", metavar="NAME|PATH",
+                        help="the panel to make it for (default bench-8x8, as rowcast edit)")
     parser.add_argument("-o", "--output", required=True, metavar="PATTERN", help="pattern file to write")
     parser.add_argument("--speed", type=float, default=DEFAULT_SPEED, metavar="COLS_PER_S",
                         help=f"columns per second, {MIN_SPEED:g}..{MAX_SPEED:g} (default {DEFAULT_SPEED:g})")
@@ -49,7 +50,7 @@ def run(args: argparse.Namespace) -> int:
     anim = text_animation(args.message, profile, name=args.name, profile_ref=profile_ref_for(args.profile, out),
                           **style)
     save_pattern(anim, out)
-    print(f"wrote {out}: {anim.n_frames} frames of {int(anim.durations_ms[0])} ms, {anim.total_ms} ms")
+    print(f"wrote {out}: {anim.n_frames} frame{'s' if anim.n_frames != 1 else ''} of {int(anim.durations_ms[0])} ms, {anim.total_ms} ms")
     verdict = check_text(anim, profile, args.message, **style)
     if verdict.ok:
         return 0

@@ -128,7 +128,7 @@ def bringup_animation(profile: Profile, *, step_ms: int = DEFAULT_STEP_MS, walk_
     for section in ("corners", "rows", "columns", "walk"):
         idx = [i for i, s in enumerate(steps) if s.section == section]
         if idx:
-            notes.append(f"{section}: frames {idx[0]}-{idx[-1]}")
+            notes.append(f"{section}: frames {idx[0]}-{idx[-1]}" if len(idx) > 1 else f"{section}: frame {idx[0]}")
     split = [s.label for s in steps if "part" in s.label]
     if split:
         notes.append(f"{len(split)} frames light part of a row or column to stay within limits")

@@ -112,6 +112,21 @@ def _half(top: int, bottom: int) -> Style:
     return Style(color=colour(top), bgcolor=colour(bottom))
 
 
+def _ruler(c0: int, n: int, cell_w: int, cols: int) -> str:
+    """Column numbers over the canvas: every column on panels of up to 10 columns; on wider ones
+    every 5th column's full number (0 5 10 15 ...), so 16 columns do not read 0-9 then 0-5."""
+    if cols <= 10:
+        return "".join(f"{c}{' ' * (cell_w - 1)}" for c in range(c0, c0 + n))
+    out = [" "] * (n * cell_w)
+    free = 0                                  # first position a label may start at
+    for c in range(c0, c0 + n):
+        label, at = str(c), (c - c0) * cell_w
+        if c % 5 == 0 and at >= free and at + len(label) <= len(out):
+            out[at:at + len(label)] = label
+            free = at + len(label) + 1
+    return "".join(out)
+
+
 class LedView(Widget):
     """Draws one frame of LED states with row and column numbers, inside its own rounded frame.
 
@@ -294,8 +309,7 @@ class LedView(Widget):
 
     def _header(self, vis_cols: int, inner: int) -> Strip:
         c0 = self.origin[1]
-        pad = " " * (self.cell_w - 1)
-        text = " " * GUTTER_W + "".join(f"{c % 10}{pad}" for c in range(c0, c0 + vis_cols))
+        text = " " * GUTTER_W + _ruler(c0, vis_cols, self.cell_w, self._codes.shape[1])
         bar = Segment("│", self._frame_style())
         return Strip([bar, Segment(text.ljust(inner), self._base() + _DIM), bar], inner + 2)
 

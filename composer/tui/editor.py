@@ -121,7 +121,7 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         if self.pen:
             flags.append("PEN")
         if s.mark is not None:
-            flags.append(f"mark {s.mark[0]},{s.mark[1]}")
+            flags.append(f"mark row {s.mark[0]} col {s.mark[1]}")
         if s.wrap:
             flags.append("wrap")
         if self.canvas.mode != "normal":

@@ -63,7 +63,7 @@ GROUPS: list[tuple[str, list[tuple[str, str, str, str | None]]]] = [
         ("[,pageup", "frame(-1)", "previous frame", None),
         ("home", "first_frame", "first frame", None),
         ("end", "last_frame", "last frame", None),
-        ("a", "add_frame", "add a blank frame after this one", "add"),
+        ("a", "add_frame", "add a blank frame after this one", None),   # footer room for "q quit" at 80x24 (as g)
         ("d", "duplicate_frame", "duplicate this frame", None),
         ("s", "select_frame", "pick / unpick this frame", None),
         ("+", "pick_range", "pick every frame from the last picked one to this one", None),
@@ -83,7 +83,7 @@ GROUPS: list[tuple[str, list[tuple[str, str, str, str | None]]]] = [
         ("T", "text_scroller", "make scrolling text (brush colour) as frames after this one", None),
     ]),
     ("Link to the panel", [
-        ("g", "toggle_link", "show the link panel / the readout", "link"),
+        ("g", "toggle_link", "show the link panel / the readout", None),   # footer room at 80x24
         ("O", "pick_port", "choose a port or type a pyserial URL", None),
         ("C", "connect", "connect / disconnect", None),
         ("~", "live", "live mode: send every edit (on/off)", None),
