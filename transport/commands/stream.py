@@ -82,12 +82,13 @@ def run(args: argparse.Namespace) -> int:
         print(f"link: {st.retransmits} messages sent again, {link.decoder.counts.dropped} bad blocks from the receiver "
               f"dropped, {st.reconnects} reconnects", file=sys.stderr)
     print(f"played {report.frames} frames in {report.elapsed_s:.2f} s: {report.acked} shown, "
-          f"{report.rejected} rejected, {report.failed} not answered, {report.skipped} skipped while the link was down")
+          f"{report.rejected} rejected, {report.mismatched} read back wrong, {report.failed} not answered, "
+          f"{report.skipped} skipped while the link was down")
     if report.rejected or report.blocked:
         return EXIT_VIOLATION
     return EXIT_OK if report.acked == report.frames else EXIT_LINK
 
 
 def _print_event(ev: LinkEvent) -> None:
-    if ev.kind in ("connected", "lost", "reconnecting", "reconnected", "error"):
+    if ev.kind in ("connected", "lost", "reconnecting", "reconnected", "error", "mismatch"):
         print(f"link: {ev.message}", file=sys.stderr, flush=True)
