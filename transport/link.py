@@ -365,8 +365,9 @@ class Link:
                 self.stats.acked += 1
                 if item.is_frame:
                     self._last_shown = item.frame
-                self._emit("acked", f"frame shown (seq {item.seq})" if item.is_frame else f"message acknowledged (seq {item.seq})",
-                           seq=item.seq)
+                if not isinstance(item.reply, p.Display):    # a read-back is a question, not news
+                    self._emit("acked", f"frame shown and read back (seq {item.seq})" if item.is_frame else
+                               f"message acknowledged (seq {item.seq})", seq=item.seq)
             elif item.mismatch:
                 self.stats.mismatches += 1
                 self._emit("mismatch", f"seq {item.seq}: {item.reason}", seq=item.seq)

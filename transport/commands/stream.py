@@ -23,7 +23,7 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.toml)")
     parser.add_argument("--port", required=True, metavar="URL",
                         help="serial port or pyserial URL (/dev/ttyACM0, COM3, socket://host:port, "
-                             "rfc2217://host:port, simrx://PROFILE for a simulated receiver)")
+                             "rfc2217://host:port, simrx://NAME-or-PATH for a simulated receiver)")
     parser.add_argument("--baud", type=int, default=115200, metavar="N", help="line rate (default 115200)")
     parser.add_argument("--loop", action="store_true", help="play again from the start until Ctrl-C")
     parser.add_argument("--profile", metavar="P", help="hardware profile (name or path) instead of the pattern's")
