@@ -20,6 +20,7 @@ from .errors import InputError
 __all__ = [
     "OFF", "RED", "GREEN", "AMBER", "STATES", "MAX_FRAMES", "MAX_SIDE", "MIN_MS", "MAX_MS", "Animation",
     "shift", "mirror", "rotate", "invert", "clear", "copy_region", "paste_region", "check_frame_array",
+    "swap_colours", "ANCHORS", "refit", "size_text",
 ]
 
 OFF, RED, GREEN, AMBER = 0, 1, 2, 3
@@ -43,6 +44,12 @@ def check_frame_array(frames: np.ndarray) -> np.ndarray:
     if frames.size and int(frames.max(initial=0)) > AMBER:
         raise InputError("LED states must be 0 (off), 1 (red), 2 (green) or 3 (amber)")
     return frames.astype(np.uint8, copy=False)
+
+
+def size_text(rows: int, cols: int) -> str:
+    """The one way a panel size is written: columns x rows, as the bundled profile names have it
+    ("wide-16x8" is 16 columns across and 8 rows down), like a screen's width x height."""
+    return f"{cols}x{rows}"
 
 
 def _check_ms(ms: int, where: str = "duration") -> int:
@@ -236,4 +243,32 @@ def paste_region(frame: np.ndarray, clip: np.ndarray, top: int, left: int, *,
         out[r0:r1, c0:c1] = np.where(piece != OFF, piece, target)
     else:
         out[r0:r1, c0:c1] = piece
+    return out
+
+
+def swap_colours(frame: np.ndarray) -> np.ndarray:
+    """Red LEDs become green and green red; amber (both) and off stay."""
+    return np.array([OFF, GREEN, RED, AMBER], np.uint8)[frame]
+
+
+ANCHORS = ("top-left", "top", "top-right", "left", "centre", "right", "bottom-left", "bottom", "bottom-right")
+
+
+def refit(frames: np.ndarray, rows: int, cols: int, anchor: str = "centre") -> np.ndarray:
+    """A (frames, rows, cols) stack padded with off LEDs or cropped to a new panel size, keeping the
+    ``anchor`` edge or corner in place ("centre" keeps the middle; odd leftovers go right and down)."""
+    if anchor not in ANCHORS:
+        raise InputError(f'anchor "{anchor}" is not one of {", ".join(ANCHORS)}')
+    if not (1 <= rows <= MAX_SIDE and 1 <= cols <= MAX_SIDE):
+        raise InputError(f"{size_text(rows, cols)} LEDs: at most {MAX_SIDE}x{MAX_SIDE}")
+    n, old_r, old_c = frames.shape
+
+    def offset(old: int, new: int, first: bool, last: bool) -> int:
+        return 0 if first else (new - old) if last else int((new - old) / 2)   # toward 0 both ways
+    dr = offset(old_r, rows, anchor.startswith("top"), anchor.startswith("bottom"))
+    dc = offset(old_c, cols, anchor.endswith("left"), anchor.endswith("right"))
+    out = np.zeros((n, rows, cols), np.uint8)
+    r0, r1 = max(dr, 0), min(dr + old_r, rows)
+    c0, c1 = max(dc, 0), min(dc + old_c, cols)
+    out[:, r0:r1, c0:c1] = frames[:, r0 - dr:r1 - dr, c0 - dc:c1 - dc]
     return out

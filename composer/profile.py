@@ -99,6 +99,14 @@ SCHEMA: dict[str, tuple[Key, ...]] = {
         _k("peak_pulse_us", "float", "us", "pulse width at which the peak rating is given", **_POS),
         _k("iv_points", "points", "mA,V", "typical I-V curve points [[mA, V], ...] read off the "
            "datasheet; used to fit the diode model", optional=True),
+        _k("dominant_wavelength_nm", "float", "nm", "dominant wavelength (datasheet typical); the colour "
+           "of the as-lit pictures", optional=True, low=380.0, high=780.0),
+        _k("intensity_mcd", "float", "mcd", "luminous intensity at the test current (datasheet typical); "
+           "the brightness of the as-lit pictures", optional=True, **_POS),
+        _k("relative_intensity_points", "points", "mA,rel", "relative luminous intensity against "
+           "forward current [[mA, relative], ...] read off the datasheet's curve (scaled to pass through "
+           "intensity_mcd at the test current); without it intensity is proportional to current",
+           optional=True),
     ),
     "resistor": (
         _k("placement", "choice", doc="column: one resistor per column line; row: one resistor per "
@@ -195,6 +203,9 @@ class Led:
     peak_duty: float
     peak_pulse_us: float
     iv_points: tuple[tuple[float, float], ...] | None
+    dominant_wavelength_nm: float | None = None
+    intensity_mcd: float | None = None
+    relative_intensity_points: tuple[tuple[float, float], ...] | None = None
 
 
 @dataclass(frozen=True)
@@ -327,15 +338,18 @@ def _check_value(ctx: _Ctx, where: str, key: Key, value: Any) -> Any:
         ok = isinstance(value, list) and len(value) >= 2 and all(
             isinstance(p, list) and len(p) == 2 and all(_is_number(x) and math.isfinite(x) for x in p)
             for p in value)
+        # the second number of a pair: a voltage ("mA,V") or a relative intensity ("mA,rel")
+        volts = key.unit.endswith(",V")
+        pair, what, whats = ("V", "voltage", "voltages") if volts else ("relative", "intensity", "intensities")
         if not ok:
-            raise ctx.fail(where, "must be a list of at least two [mA, V] pairs of numbers")
+            raise ctx.fail(where, f"must be a list of at least two [mA, {pair}] pairs of numbers")
         pts = tuple((float(a), float(b)) for a, b in value)
         if any(a <= 0 for a, _ in pts) or any(b2 <= 0 for _, b2 in pts):
-            raise ctx.fail(where, "currents and voltages must be above zero")
+            raise ctx.fail(where, f"currents and {whats} must be above zero")
         if any(pts[i + 1][0] <= pts[i][0] for i in range(len(pts) - 1)):
             raise ctx.fail(where, "points must rise in current")
         if any(pts[i + 1][1] < pts[i][1] for i in range(len(pts) - 1)):
-            raise ctx.fail(where, "voltage must not fall as current rises")
+            raise ctx.fail(where, f"{what} must not fall as current rises")
         return pts
     raise AssertionError(kind)
 

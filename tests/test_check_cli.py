@@ -139,3 +139,15 @@ def test_per_led_currents_in_the_json(tmp_path, capsys):
         assert np.allclose(led[f].sum(axis=(1, 2)), doc["frames"][f]["row_ma"], rtol=1e-4, atol=1e-3)
     assert main(["check", str(path), "--per-led"]) == 2        # JSON only: a one-line error
     assert "--per-led" in capsys.readouterr().err
+
+
+def test_fixes_in_text_and_json(capsys):
+    assert main(["check", str(OVERLOAD)]) == 1
+    text = capsys.readouterr().out
+    assert "to fix (stress corner):" in text and "red LEDs on per register" in text and "E24" in text
+    assert main(["check", str(OVERLOAD), "--json"]) == 1
+    fixes = json.loads(capsys.readouterr().out)["summary"]["fixes"]
+    kinds = [f["kind"] for f in fixes]
+    assert kinds.count("register-allowance") == 2 and kinds.count("resistor") == 1
+    res = next(f for f in fixes if f["kind"] == "resistor")
+    assert res["needed"] and res["ohm"]["red"] > res["present_ohm"]["red"] and res["corner"] == "stress"

@@ -222,13 +222,13 @@ def test_vector_identity_configure_frame_ack(lib):
 
 def test_vector_maximum_frame_needs_16_rows(lib):
     rx = Rx(lib)
-    v = vector("frame maximum 16x8")
-    cfg = P.Configure(0xFFFE, 16, 8, 80, 4000, 64, bytes(8), bytes(8))
+    v = vector("frame maximum 16x10")
+    cfg = P.Configure(0xFFFE, 16, 10, 80, 4000, 64, bytes(10), bytes(10))
     assert rx.send(cfg) == [P.Ack(0xFFFE)]
     assert rx.feed(bytes.fromhex(v["wire"])) == P.encode(ack(v["seq"], bytes.fromhex(v["fields"]["data"])))
     assert lib.host_dropped() == 0
     rx.tick(1)                                       # the end of the primed scan swaps the frame in
-    # The longest reply: DISPLAY of 16 x 8 slot bytes, 135 bytes before COBS, matches the codec's encoding.
+    # The longest reply: DISPLAY of 16 x 10 slot bytes, 167 bytes before COBS, matches the codec's encoding.
     assert rx.feed(P.encode(P.ReadBack(0))) == P.encode(P.Display(0, 3, bytes.fromhex(v["fields"]["data"])))
 
 
@@ -394,7 +394,7 @@ def test_blank_and_show_drive_output_enable(lib, bench):
 
 
 @pytest.mark.parametrize("field,kwargs", [
-    (0, dict(rows=0)), (0, dict(rows=17)), (1, dict(bpr=0)), (1, dict(bpr=9)),
+    (0, dict(rows=0)), (0, dict(rows=17)), (1, dict(bpr=0)), (1, dict(bpr=11)),
     (2, dict(period=19)), (2, dict(period=4001)), (3, dict(blanking_ns=70_001)), (3, dict(blanking_ns=0xFFFFFFFF)),
     (4, dict(limit=0)), (5, dict(options=0x80)),
 ])

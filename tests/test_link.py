@@ -87,7 +87,7 @@ def _send_and_check_wire(prof, frames: np.ndarray) -> tuple[int, int]:
     map, to a frame the engine's guard passes, and every frame the guard blocks must not be sent.
     Returns (blocked, acked)."""
     ports: list = []
-    # The receiver's own capacity (16 x 8) holds every bundled panel; the link configures it from prof.
+    # The receiver's own capacity (16 x 10) holds every bundled panel; the link configures it from prof.
     link = Link("simrx://bench-8x8", prof, opener=recording_opener(ports))
     with link:
         results = [link.send_frame(f) for f in frames]

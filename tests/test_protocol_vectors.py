@@ -26,8 +26,8 @@ VECTORS = ROOT / "transport" / "protocol_vectors.json"
 # Row-slot bytes of an 8x8 two-colour frame in shift order (green, red, rows registers, as the
 # bench-8x8 wiring shifts them): every slot selects its own row, a few columns lit.
 _BENCH_FRAME = bytes(b for r in range(8) for b in (0xFF ^ (1 << r), 0xFF ^ (0x80 >> r), 1 << r))
-# The largest frame the ATmega328P-class build holds: 16 row slots x 8 bytes (PROTOCOL.md section 6).
-_MAX_FRAME = bytes((i * 37 + 11) & 0xFF for i in range(16 * 8))
+# The largest frame the ATmega328P-class build holds: 16 row slots x 10 bytes (PROTOCOL.md section 6).
+_MAX_FRAME = bytes((i * 37 + 11) & 0xFF for i in range(16 * 10))
 
 
 def _messages() -> list[tuple[str, str, p.Message]]:
@@ -45,7 +45,7 @@ def _messages() -> list[tuple[str, str, p.Message]]:
         ("frame 8x8 show-after", h, p.Frame(0x1234, _BENCH_FRAME, p.SHOW_AFTER)),
         ("frame 8x8 all off, store only", h, p.Frame(2, bytes((0xFF, 0xFF, 0x00)) * 8, 0)),
         ("frame 8x8 all zero bytes", h, p.Frame(3, bytes(24), p.SHOW_AFTER)),
-        ("frame maximum 16x8", h, p.Frame(0xFFFF, _MAX_FRAME, p.SHOW_AFTER)),
+        ("frame maximum 16x10", h, p.Frame(0xFFFF, _MAX_FRAME, p.SHOW_AFTER)),
         ("show", h, p.Show(5)),
         ("blank", h, p.Blank(6)),
         ("ping", h, p.Ping(0x0100)),
@@ -55,9 +55,9 @@ def _messages() -> list[tuple[str, str, p.Message]]:
         ("ack repeat", d, p.Ack(0x1234, p.ACK_REPEAT, p.crc16(_BENCH_FRAME))),
         ("display from reset", d, p.Display(7, 0)),
         ("display 8x8", d, p.Display(8, p.STATE_CONFIGURED | p.STATE_OUTPUTS, _BENCH_FRAME)),
-        ("identity configured", d, p.Identity(0, version=2, max_rows=16, max_bytes_per_row=8, frame_slots=2,
+        ("identity configured", d, p.Identity(0, version=2, max_rows=16, max_bytes_per_row=10, frame_slots=2,
                                               max_lit_per_row=16, state=3, rx_dropped=0x0102)),
-        ("identity from reset", d, p.Identity(7, version=2, max_rows=16, max_bytes_per_row=8, frame_slots=2,
+        ("identity from reset", d, p.Identity(7, version=2, max_rows=16, max_bytes_per_row=10, frame_slots=2,
                                               max_lit_per_row=0, state=0, rx_dropped=0)),
         ("reject guard row 3", d, p.Reject(9, p.Reason.GUARD, 3)),
         ("reject not configured", d, p.Reject(10, p.Reason.NOT_CONFIGURED, 0)),
@@ -216,8 +216,8 @@ def test_vectors_sizes_match_spec_table():
     """PROTOCOL.md section 6: an 8x8 two-colour frame on three registers is 33 bytes on the wire."""
     by_name = {m["name"]: m for m in _load()["messages"]}
     assert len(bytes.fromhex(by_name["frame 8x8 show-after"]["wire"])) == 33
-    # 16 x 8 slot bytes: payload 4 + 1 + 128 = 133, + CRC = 135, COBS +1, delimiter +1.
-    assert len(bytes.fromhex(by_name["frame maximum 16x8"]["wire"])) == 137
+    # 16 x 10 slot bytes: payload 4 + 1 + 160 = 165, + CRC = 167, COBS +1, delimiter +1.
+    assert len(bytes.fromhex(by_name["frame maximum 16x10"]["wire"])) == 169
 
 
 def test_cobs_vectors_decode_back():

@@ -119,7 +119,7 @@ def test_readback_returns_the_shown_slot_bytes():
 
 
 @pytest.mark.parametrize("field, cfg", [
-    (0, dict(rows=17)), (0, dict(rows=0)), (1, dict(bytes_per_row=9)), (2, dict(row_period_us=5)), (2, dict(row_period_us=4001)),
+    (0, dict(rows=17)), (0, dict(rows=0)), (1, dict(bytes_per_row=11)), (2, dict(row_period_us=5)), (2, dict(row_period_us=4001)),
     (3, dict(blanking_ns=70_001)), (3, dict(blanking_ns=80_000)), (4, dict(max_lit_per_row=0)), (5, dict(options=2)),
 ])
 def test_bad_configuration_names_the_field(field, cfg):

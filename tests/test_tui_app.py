@@ -431,7 +431,8 @@ async def test_missing_file_offers_a_new_pattern(tmp_path):
         await pilot.pause()
         assert app.screen.id == "ask-new"
         text = screen_text(app)
-        assert "file not found" in text and str(path.name) in text
+        # a missing file is simply a new one: no error, the profile and its size are named
+        assert "does not exist yet" in text and str(path.name) in text and "wide-16x8 (16x8 LEDs" in text
         await pilot.click("#choice-new")
         await pilot.pause()
         s = editor(app).session

@@ -35,7 +35,7 @@ __all__ = ["SimulatedReceiver", "ReceiverCounts", "serve_fd", "MAX_ROWS", "MAX_B
 
 # Capacity of the ATmega328P-class build (PROTOCOL.md section 6).
 MAX_ROWS = 16
-MAX_BYTES_PER_ROW = 8
+MAX_BYTES_PER_ROW = 10
 # The shortest row period the simulated receiver takes: shifting 8 bytes at 8 MHz takes 8 us, and
 # the row needs some on-time after it (common practice; the firmware states its own minimum).
 MIN_ROW_PERIOD_US = 20

@@ -11,7 +11,8 @@ import sys
 
 import numpy as np
 
-from ..electrical import CORNERS, Report, analyse, led_currents, places_over
+from ..electrical import CORNERS, Report, analyse, led_currents, places_over, scan_speed
+from ..electrical.fixes import allowance, fixes_json, resistor_fix
 from ..errors import EXIT_OK, EXIT_VIOLATION, InputError
 from ..pattern_file import open_pattern
 
@@ -50,11 +51,15 @@ def run(args: argparse.Namespace) -> int:
         report = dataclasses.replace(report, violations=places_over(anim.frames, anim.durations_ms, profile,
                                                                     corner=args.corner))
     ranges = corner_ranges(anim, profile)
+    allow = allowance(profile)
+    fix = resistor_fix(profile, anim.frames, anim.durations_ms, scope="the pattern")
     if args.json:
         doc = report.to_json()
         doc["summary"]["pattern"] = str(args.pattern)
         doc["summary"]["corners"] = ranges
         doc["summary"]["every_place"] = bool(args.all)
+        doc["summary"]["fixes"] = fixes_json(allow, [fix])
+        doc["summary"]["scan_speed"] = scan_speed(profile).to_json()
         if args.per_led:
             led = np.round(led_currents(anim.frames, profile, corner=args.corner).astype(np.float64), 4)
             for frame, ma in zip(doc["frames"], led):
@@ -62,7 +67,8 @@ def run(args: argparse.Namespace) -> int:
         json.dump(doc, sys.stdout, indent=1)
         sys.stdout.write("\n")
     else:
-        sys.stdout.write(render_text(report, str(args.pattern), ranges, every_place=args.all))
+        sys.stdout.write(render_text(report, str(args.pattern), ranges, every_place=args.all, profile=profile,
+                                     fixes=render_fixes(allow, fix) if fix.needed else None))
     return EXIT_OK if report.ok else EXIT_VIOLATION
 
 
@@ -74,7 +80,18 @@ def _ma(x: float) -> str:
     return "-" if not np.isfinite(x) else f"{x:.1f}"
 
 
-def render_text(report: Report, pattern: str, ranges: dict | None = None, every_place: bool = False) -> str:
+def render_fixes(allow, fix) -> list[str]:
+    """The way to a fix, computed by the engine at the stress corner."""
+    lines = ["to fix (stress corner):"]
+    lines += [f"  {a.text()}" for a in allow]
+    lines.append(f"  {fix.text()}")
+    if fix.ohm is not None:
+        lines.append("  rowcast design --pattern PATTERN -o NEW.toml writes that profile (the original stays as it is)")
+    return lines
+
+
+def render_text(report: Report, pattern: str, ranges: dict | None = None, every_place: bool = False,
+                profile=None, fixes: list[str] | None = None) -> str:
     t = report.timing
     lines = [f"check {pattern} on {report.profile}, {report.corner} corner: {report.n_frames} frames",
              "",
@@ -101,6 +118,8 @@ def render_text(report: Report, pattern: str, ranges: dict | None = None, every_
         counts = ", ".join(f"{rule} {n}" for rule, n in report.frames_over().items())
         if counts:
             lines.append(f"frames over each limit: {counts}; worst frame {report.worst_frame}")
+        if fixes:
+            lines += fixes
     else:
         lines.append(f"no violations; worst frame {report.worst_frame} uses "
                      f"{100 * float(report.utilisation.max()):.0f} % of its tightest limit")
@@ -125,6 +144,8 @@ def render_text(report: Report, pattern: str, ranges: dict | None = None, every_
     lines.append(f"timing: refresh {t.refresh_hz:.1f} Hz, duty {100 * t.duty:.2f} %, effective duty "
                  f"{100 * t.effective_duty:.2f} % (blanking), shifting {t.shift_us:.1f} us of a {t.row_period_us:g} us slot")
     lines.append(f"flicker: {t.flicker_text}")
+    if profile is not None:
+        lines.extend(scan_speed(profile).lines())
     if report.flash is not None:
         lines.append(f"flash: {report.flash.message}")
     lines.append("verdict: " + ("OK, every frame inside every limit" if report.ok else

@@ -1,5 +1,8 @@
 """``rowcast export PATTERN --c OUT.h | --gif OUT.gif | --png OUT.png | --json OUT.json``.
 
+``--as-lit [--corner typ|bright|stress]`` draws the previews through the light model
+(``composer.electrical.light``); the default previews show every lit LED alike.
+
 Several outputs may be asked for at once. Everything is checked (arguments, output folders, the
 pattern, the profile) before the first file is written, and each file is written atomically.
 Exit status 1 (files still written) when the electrical check finds a frame over a limit.
@@ -13,6 +16,8 @@ from pathlib import Path
 import numpy as np
 
 from ..atomic import atomic_write_bytes
+from ..electrical import CORNERS
+from ..electrical.light import as_lit
 from ..errors import EXIT_OK, EXIT_VIOLATION, InputError
 from ..exports.c_tables import LAYOUTS, c_header, check_prefix
 from ..exports.check import check_report
@@ -38,6 +43,10 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--png", metavar="OUT.png", dest="png_out", help="write a PNG sprite sheet")
     parser.add_argument("--scale", type=int, default=DEFAULT_SCALE, metavar="N",
                         help=f"pixels per LED in previews (default {DEFAULT_SCALE})")
+    parser.add_argument("--as-lit", action="store_true", help="previews show each LED's brightness and colour "
+                        "from the light model (default: every lit LED alike)")
+    parser.add_argument("--corner", choices=CORNERS, help="corner the as-lit previews show: typ (default), "
+                        "bright (lowest supply, highest forward voltage: the dimmest), stress (the brightest)")
     parser.add_argument("--json", metavar="OUT.json", dest="json_out", help="write the model and the check "
                         "report as JSON")
 
@@ -57,7 +66,12 @@ def run(args: argparse.Namespace) -> int:
         check_prefix(args.prefix)
     if args.gif_out or args.png_out:
         check_scale(args.scale)
+    if (args.as_lit or args.corner) and not (args.gif_out or args.png_out):
+        raise InputError(f"{'--as-lit' if args.as_lit else '--corner'} applies to --gif and --png previews: give one")
+    if args.corner and not args.as_lit:
+        raise InputError("--corner chooses the corner of an as-lit preview: add --as-lit")
     anim, profile = open_pattern(args.pattern, args.profile)
+    lit = as_lit(anim.frames, profile, args.corner or "typ") if args.as_lit else None
 
     # Render everything first, then write: a failure while rendering leaves no file behind.
     # The check runs for previews too: a preview of flashing content flashes on a screen as well.
@@ -71,9 +85,9 @@ def run(args: argparse.Namespace) -> int:
                                 progmem=args.progmem, source_name=Path(args.pattern).name,
                                 stress_report=stress).encode()
     if args.gif_out:
-        blobs["--gif"] = gif_bytes(anim, args.scale)
+        blobs["--gif"] = gif_bytes(anim, args.scale, lit)
     if args.png_out:
-        blobs["--png"] = png_sheet_bytes(anim, args.scale)
+        blobs["--png"] = png_sheet_bytes(anim, args.scale, lit)
     if args.json_out:
         blobs["--json"] = export_json(anim, profile, report).encode()
     for opt, data in blobs.items():

@@ -14,7 +14,8 @@ from .engine import analyse, firmware_lit_limit, guard
 from .headroom import led_currents, places_over, register_totals
 from .limits import RULES, Violation
 from .report import Report, Verdict
+from .scan_speed import ScanSpeed, scan_speed
 from .solve import CORNERS
 
 __all__ = ["analyse", "guard", "firmware_lit_limit", "led_currents", "places_over", "register_totals",
-           "Report", "Verdict", "Violation", "RULES", "CORNERS"]
+           "Report", "Verdict", "Violation", "RULES", "CORNERS", "ScanSpeed", "scan_speed"]

@@ -16,6 +16,7 @@ from ..model import MAX_FRAMES, MAX_SIDE, check_frame_array
 from ..profile import COLOURS, Profile
 from .counts import ColumnGroup, column_groups, lit_counts
 from .flash import flash_check
+from .light import uniformity
 from .limits import Limits, Violation, limits_for
 from .report import Report, Verdict
 from .solve import CORNERS, Circuit, count_table
@@ -286,13 +287,15 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
     led_min = np.where(led > 0, led, np.inf).min(axis=2).T
     led_min = np.where(np.isfinite(led_min), led_min, np.nan)
     led_max_nan = np.where(led_max > 0, led_max, np.nan)
+    span = np.array([np.fmin.reduce(led_min, axis=0), np.fmax.reduce(led_max_nan, axis=0)])   # NaN: never lit
     return Report(
         profile=profile.name, corner=corner, durations_ms=durations, row_ma=row_ma, worst_row=worst_row,
         worst_row_ma=worst_row_ma, pin_ma_max=pin_ma, package_ma_max=package_ma, supply_peak_ma=worst_row_ma,
         supply_avg_ma=supply_avg, frame_ok=frame_ok, row_limit_ma=lim.row_limit_ma, violations=violations,
         timing=t, flash=flash, led_ma_min=led_min, led_ma_max=led_max_nan, driver_tj_c=driver_tj,
         resistor_w_max=res_w, stuck_scan=stuck, stuck_parts=stuck_parts, utilisation=utilisation,
-        rule_utilisation=rule_util, binding_index=binding,
+        rule_utilisation=rule_util, binding_index=binding, led_uniformity=uniformity(led_min, led_max_nan, profile),
+        led_uniformity_all=uniformity(span[0], span[1], profile),
         row_utilisation_of=lambda: _row_utilisation(row_ma, led, counts.most_on_one, p))
 
 

@@ -1,4 +1,4 @@
-"""IEC 60063 preferred number series for resistors (E12, E24, E96).
+"""IEC 60063 preferred number series for resistors (E6, E12, E24, E48, E96).
 
 The tables are the standard's values for one decade, written out as the standard lists them (E24
 and below are not the rounded geometric series: 2.7 - 4.7 and 8.2 keep their historic values).
@@ -9,7 +9,7 @@ import math
 
 from ..errors import InputError
 
-__all__ = ["SERIES", "series_values", "round_up", "round_nearest", "is_preferred"]
+__all__ = ["SERIES", "series_for_tolerance", "series_values", "round_up", "round_nearest", "is_preferred"]
 
 # IEC 60063:2015, table 1 (E6-E24) and table 2 (E48-E192), one decade
 _E12 = (1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2)
@@ -24,7 +24,16 @@ _E96 = (1.00, 1.02, 1.05, 1.07, 1.10, 1.13, 1.15, 1.18, 1.21, 1.24, 1.27, 1.30,
         5.62, 5.76, 5.90, 6.04, 6.19, 6.34, 6.49, 6.65, 6.81, 6.98, 7.15, 7.32,
         7.50, 7.68, 7.87, 8.06, 8.25, 8.45, 8.66, 8.87, 9.09, 9.31, 9.53, 9.76)
 
-SERIES: dict[str, tuple[float, ...]] = {"E12": _E12, "E24": _E24, "E96": _E96}
+# IEC 60063: E6 is every second E12 value and E48 every second E96 value
+SERIES: dict[str, tuple[float, ...]] = {"E6": _E12[::2], "E12": _E12, "E24": _E24, "E48": _E96[::2], "E96": _E96}
+
+# IEC 60063 pairs each series with a tolerance: E6 20 %, E12 10 %, E24 5 %, E48 2 %, E96 1 %
+_TOLERANCE = ((1.0, "E96"), (2.0, "E48"), (5.0, "E24"), (10.0, "E12"))
+
+
+def series_for_tolerance(tolerance_pct: float) -> str:
+    """The series whose tolerance covers parts of ``tolerance_pct`` (a 5 % part comes in E24)."""
+    return next((name for tol, name in _TOLERANCE if tolerance_pct <= tol + 1e-9), "E6")
 
 
 def _series(name: str) -> tuple[float, ...]:

@@ -54,6 +54,10 @@ class Report:
     # rule id -> (F,) worst measured / limit of that rule (1.0 = at the limit); frame-level rules only
     rule_utilisation: dict[str, np.ndarray] = field(default_factory=dict)
     binding_index: np.ndarray = field(default=None)                     # (F,) index into rule_utilisation
+    # (F, 2) dimmest / brightest lit LED of each colour in luminous intensity (NaN: colour unlit), and (2,)
+    # over the whole animation (composer.electrical.light.uniformity)
+    led_uniformity: np.ndarray = field(default=None)
+    led_uniformity_all: np.ndarray = field(default=None)
     # computed on first use of row_utilisation (the composer's bars need it, a check of 10,000 frames not)
     row_utilisation_of: Callable[[], np.ndarray] | None = field(default=None, repr=False, compare=False)
 
@@ -122,6 +126,7 @@ class Report:
                 "supply_avg_ma": _r(self.supply_avg_ma[i]),
                 "led_ma_range": {c: [_r(self.led_ma_min[i, k]), _r(self.led_ma_max[i, k])]
                                  for k, c in enumerate(("red", "green"))},
+                "led_uniformity": {c: _r(self.led_uniformity[i, k]) for k, c in enumerate(("red", "green"))},
                 "driver_tj_c": _r(self.driver_tj_c[i], 2),
                 "resistor_w_max": _r(self.resistor_w_max[i], 6),
                 "stuck_scan_over": bool(self.stuck_scan[i]),
@@ -154,10 +159,7 @@ class Report:
             "led_ma_range": {c: [_r(np.nanmin(self.led_ma_min[:, k], initial=np.inf)),
                                  _r(np.nanmax(self.led_ma_max[:, k], initial=-np.inf))]
                              for k, c in enumerate(("red", "green"))},
-            "led_uniformity": {c: _r(np.nanmin(self.led_ma_min[:, k], initial=np.inf)
-                                     / np.nanmax(self.led_ma_max[:, k], initial=-np.inf))
-                               if np.isfinite(self.led_ma_max[:, k]).any() else None
-                               for k, c in enumerate(("red", "green"))},
+            "led_uniformity": {c: _r(self.led_uniformity_all[k]) for k, c in enumerate(("red", "green"))},
             "driver_tj_max_c": _r(self.driver_tj_c.max(), 2),
             "flicker": {"region": t.flicker_region, "text": t.flicker_text},
             "flash": None if flash is None else {

@@ -17,6 +17,7 @@ import math
 import numpy as np
 from PIL import Image, ImageDraw, ImageFont
 
+from ..electrical.light import OFF_SRGB, Lit
 from ..errors import InputError
 from ..model import Animation
 
@@ -25,7 +26,7 @@ __all__ = ["COLOURS_RGB", "OFF_RGB", "BOARD_RGB", "LEVELS", "MIN_SCALE", "MAX_SC
            "png_sheet_bytes", "sheet_layout"]
 
 BOARD_RGB = (12, 12, 12)
-OFF_RGB = (46, 40, 36)                       # a dim dot: the LED is there but dark
+OFF_RGB = OFF_SRGB                           # a dim dot: the LED is there but dark
 COLOURS_RGB = {1: (235, 40, 30), 2: (40, 215, 60), 3: (255, 170, 20)}   # red, green, amber
 LEVELS = 16                                  # coverage levels of the anti-aliased dot edge
 MIN_SCALE, MAX_SCALE, DEFAULT_SCALE = 2, 64, 12
@@ -63,12 +64,16 @@ def check_scale(scale: int) -> int:
     return scale
 
 
-def _indices(frames: np.ndarray, scale: int) -> np.ndarray:
-    """(F, rows, cols) states -> (F, rows*scale, cols*scale) palette indices (one byte per pixel)."""
-    n, rows, cols = frames.shape
+def _check_pixels(n: int, rows: int, cols: int, scale: int) -> None:
     if n * rows * cols * scale * scale > MAX_PIXELS:
         raise InputError(f"{n} frames of {rows}x{cols} LEDs at --scale {scale} would be over "
                          f"{MAX_PIXELS} pixels; use a smaller --scale")
+
+
+def _indices(frames: np.ndarray, scale: int) -> np.ndarray:
+    """(F, rows, cols) states -> (F, rows*scale, cols*scale) palette indices (one byte per pixel)."""
+    n, rows, cols = frames.shape
+    _check_pixels(n, rows, cols, scale)
     dot = _dot_levels(scale)
     base = (frames.astype(np.uint8) * np.uint8(LEVELS))[:, :, None, :, None]      # (F, rows, 1, cols, 1)
     out = base + dot[None, None, :, None, :]                                         # broadcast, one pass
@@ -92,19 +97,26 @@ def gif_delays_ms(durations_ms: np.ndarray) -> list[int]:
     return [int(v) * 10 for v in np.clip((ms + 5) // 10, 1, GIF_MAX_CS)]
 
 
-def gif_bytes(anim: Animation, scale: int = DEFAULT_SCALE) -> bytes:
-    """An endlessly looping GIF with one GIF frame per animation frame."""
-    idx = _indices(anim.frames, check_scale(scale))
+def gif_bytes(anim: Animation, scale: int = DEFAULT_SCALE, lit: Lit | None = None) -> bytes:
+    """An endlessly looping GIF with one GIF frame per animation frame (as lit when ``lit`` is given)."""
+    scale = check_scale(scale)
     # pillow's GIF writer folds a frame that equals the previous one into it (adding the delays).
     # Moving the top-left pixel to the twin palette entry of its own colour keeps every frame
     # distinct without changing what anyone sees.
     same = np.zeros(anim.n_frames, bool)
     same[1:] = np.all(anim.frames[1:] == anim.frames[:-1], axis=(1, 2))
     twin = np.cumsum(same) % 2 == 1
-    idx[twin, 0, 0] += _TWIN
-    pal = _palette()
+    if lit is None:
+        idx = _indices(anim.frames, scale)
+        idx[twin, 0, 0] += _TWIN
+        pal = _palette()
+        planes = [(plane, pal) for plane in idx]
+    else:
+        planes = list(_lit_planes(lit, anim.frames.shape, scale))
+        for f in np.flatnonzero(twin):
+            planes[f][0][0, 0] += _TWIN
     images = []
-    for plane in idx:
+    for plane, pal in planes:
         img = Image.fromarray(plane, "P")
         img.putpalette(pal)
         images.append(img)
@@ -112,6 +124,33 @@ def gif_bytes(anim: Animation, scale: int = DEFAULT_SCALE) -> bytes:
     images[0].save(buf, "GIF", save_all=True, append_images=images[1:], duration=gif_delays_ms(anim.durations_ms),
                    loop=0, optimize=False, disposal=1)
     return buf.getvalue()
+
+
+def _lit_planes(lit: Lit, shape: tuple[int, int, int], scale: int):
+    """Per frame: (palette indices (rows*scale, cols*scale), palette) of the as-lit picture."""
+    n, rows, cols = shape
+    _check_pixels(n, rows, cols, scale)
+    dot = _dot_levels(scale).astype(np.int32)                      # 0..LEVELS-1
+    board = np.array(BOARD_RGB, float)
+    for f in range(n):
+        colours = lit.srgb[f].reshape(-1, 3).astype(np.uint32)
+        for step in range(8):                                        # coarser colours until they fit
+            q = (colours >> step) << step
+            uniq, inv = np.unique((q[:, 0] << 16) | (q[:, 1] << 8) | q[:, 2], return_inverse=True)
+            if uniq.size <= _TWIN - 1:
+                break
+        top = min(LEVELS - 1, (_TWIN - 1) // uniq.size)              # coverage levels 1..top per colour
+        level = np.rint(dot * top / (LEVELS - 1)).astype(np.int32)  # (scale, scale)
+        slot = inv.reshape(rows, cols).astype(np.int32)
+        idx = np.where(level[None, :, None, :] == 0, 0,
+                       1 + slot[:, None, :, None] * top + level[None, :, None, :] - 1)
+        rgb = np.stack([(uniq >> 16) & 255, (uniq >> 8) & 255, uniq & 255], axis=-1).astype(float)
+        t = (np.arange(1, top + 1) / top)[None, :, None]
+        entries = board * (1 - t) + rgb[:, None, :] * t                # (colours, top, 3)
+        pal = np.concatenate([board[None], entries.reshape(-1, 3)])
+        pal = np.rint(pal).astype(np.uint8).ravel().tolist()
+        pal = pal + [0] * (3 * _TWIN - len(pal))
+        yield idx.reshape(rows * scale, cols * scale).astype(np.uint8), pal + pal + [0, 0, 0] * (256 - 2 * _TWIN)
 
 
 def sheet_layout(n_frames: int, rows: int, cols: int, scale: int, label_w: int = 0) -> tuple[int, int, int, int]:
@@ -126,11 +165,10 @@ _LABEL_H = 14   # pillow's built-in bitmap font is 11 pixels tall
 _GAP = 6
 
 
-def png_sheet_bytes(anim: Animation, scale: int = DEFAULT_SCALE) -> bytes:
+def png_sheet_bytes(anim: Animation, scale: int = DEFAULT_SCALE, lit: Lit | None = None) -> bytes:
     """All frames on one PNG, left to right then top to bottom, each labelled with its number and
-    duration."""
+    duration (as lit, an RGB image, when ``lit`` is given)."""
     scale = check_scale(scale)
-    idx = _indices(anim.frames, scale)
     n, rows, cols = anim.frames.shape
     font = getattr(ImageFont, "load_default_imagefont", ImageFont.load_default)()   # the bitmap font
     labels = [f"{i}  {int(ms)} ms" for i, ms in enumerate(anim.durations_ms)]
@@ -139,18 +177,35 @@ def png_sheet_bytes(anim: Animation, scale: int = DEFAULT_SCALE) -> bytes:
         labels = [str(i) for i in range(n)]
         label_w = int(max(font.getlength(t) for t in labels))
     per_line, lines, cw, ch = sheet_layout(n, rows, cols, scale, label_w)
-    sheet = np.full((lines * ch + _GAP, per_line * cw + _GAP), _TWIN, np.uint8)
-    for i in range(n):
+    size = (lines * ch + _GAP, per_line * cw + _GAP)
+    if lit is None:
+        idx = _indices(anim.frames, scale)
+        sheet = np.full(size, _TWIN, np.uint8)
+        tiles = iter(idx)
+    else:
+        _check_pixels(n, rows, cols, scale)
+        sheet = np.empty(size + (3,), np.uint8)
+        sheet[:] = BOARD_RGB
+        cover = (_dot_levels(scale) / (LEVELS - 1))[None, :, None, :, None]
+        board = np.array(BOARD_RGB, float)
+        tiles = (np.rint(board * (1 - cover) + lit.srgb[f][:, None, :, None, :] * cover).astype(np.uint8)
+                 .reshape(rows * scale, cols * scale, 3) for f in range(n))
+    for i, tile in enumerate(tiles):
         y, x = _GAP + (i // per_line) * ch + _LABEL_H, _GAP + (i % per_line) * cw
-        sheet[y:y + rows * scale, x:x + cols * scale] = idx[i]
-    img = Image.fromarray(sheet, "P")
-    pal = _palette()
-    pal[3 * 255:3 * 256] = [200, 200, 200]          # label ink
-    img.putpalette(pal)
+        sheet[y:y + rows * scale, x:x + cols * scale] = tile
+    if lit is None:
+        img = Image.fromarray(sheet, "P")
+        pal = _palette()
+        pal[3 * 255:3 * 256] = [200, 200, 200]          # label ink
+        img.putpalette(pal)
+        ink: int | tuple[int, int, int] = 255
+    else:
+        img = Image.fromarray(sheet, "RGB")
+        ink = (200, 200, 200)
     draw = ImageDraw.Draw(img)
     for i, label in enumerate(labels):
         y, x = _GAP + (i // per_line) * ch, _GAP + (i % per_line) * cw
-        draw.text((x, y), label, font=font, fill=255)
+        draw.text((x, y), label, font=font, fill=ink)
     buf = io.BytesIO()
     img.save(buf, "PNG", optimize=False)
     return buf.getvalue()

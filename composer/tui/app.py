@@ -7,20 +7,22 @@ from __future__ import annotations
 
 import time
 from functools import partial
+from pathlib import Path
 from typing import Iterable
 
 from textual.app import App, SystemCommand
 from textual.screen import Screen
 
 from ..errors import InputError, RowcastError
-from ..model import Animation
+from ..model import Animation, size_text
 from ..pattern_file import PATTERN_SUFFIX, open_pattern
-from ..profile import load_profile
+from ..profile import Profile, load_profile
 from . import autosave
 from .dialogs import Choice, Notice
 from .editor import EditorScreen
 from .keys import GROUPS
-from .session import Session
+from .pattern_actions import SIZE_WORDS, ask_profile
+from .session import Session, profile_ref
 from .startup import Startup
 
 __all__ = ["RowcastApp", "EditorScreen", "Startup"]
@@ -42,7 +44,7 @@ class RowcastApp(App[int]):
 
     @property
     def editor(self) -> EditorScreen:
-        return self.get_screen("editor") if self.is_screen_installed("editor") else self.query_one(EditorScreen)
+        return next(s for s in reversed(self.screen_stack) if isinstance(s, EditorScreen))
 
     def on_mount(self) -> None:
         st = self.startup
@@ -53,37 +55,79 @@ class RowcastApp(App[int]):
         except RowcastError as err:
             self._offer_new(err)
             return
-        self._start(Session(anim, profile, st.path))
+        read_only = st.read_only
+        session = Session(anim, profile, st.path)
+        overridden = st.profile is not None and profile_ref(profile, st.path, anim.profile) != anim.profile
+        screen = self.start_session(session)
+        self.startup.read_only = read_only
+        if overridden:
+            # --profile names another profile than the file's: saving stores it, so say so
+            session.history.mark_unsaved()
+            self.call_after_refresh(self._profile_overridden, screen)
 
     def _offer_new(self, err: RowcastError) -> None:
+        """A missing file: a new pattern there on the named profile. A malformed one: a new, unnamed
+        pattern (the file is never overwritten). Quitting here exits 2."""
         st = self.startup
         missing = st.path is not None and not st.path.exists()
+        try:
+            profile = load_profile(st.profile or DEFAULT_PROFILE)
+        except RowcastError as perr:
+            self.push_screen(Notice("Cannot start", str(perr)), lambda _k: self.exit(2))
+            return
+        at = st.path if missing else None
 
         def answer(key: str) -> None:
-            if key != "new":
+            if key == "new":
+                self.start_new(profile, at)
+            elif key == "other":
+                ask_profile(self, "New pattern", f"the panel to draw for (sizes are {SIZE_WORDS})",
+                            lambda p: self.start_new(p, at), on_cancel=lambda: self._offer_new(err))
+            else:
                 self.exit(2)
-                return
-            try:
-                profile = load_profile(st.profile or DEFAULT_PROFILE)
-            except RowcastError as perr:
-                self.push_screen(Notice("Cannot start", str(perr)), lambda _k: self.exit(2))
-                return
-            name = st.path.name.removesuffix(PATTERN_SUFFIX) if st.path is not None else "untitled"
-            anim = Animation.blank(profile.rows, profile.cols, name=name, profile=profile.name)
-            # a missing file may be created at its path; a malformed one is never overwritten
-            self._start(Session(anim, profile, st.path if missing else None))
 
-        text = f"{err}\n\nStart a new pattern" + (f" at {st.path}?" if missing else
-                                                   " (the file above is left as it is)?")
-        self.push_screen(Choice("Could not open the pattern", text, [("new", "New pattern"), ("quit", "Quit")],
-                                id="ask-new"), answer)
+        size = f"{profile.name} ({size_text(profile.rows, profile.cols)} LEDs, {SIZE_WORDS})"
+        if missing:
+            title, text = "New pattern", f"{st.path} does not exist yet.\n\nStart a new pattern there on {size}?"
+        elif st.path is None:
+            title, text = "New pattern", f"Start a new pattern on {size}?"
+        else:
+            title, text = "Could not open the pattern", (f"{err}\n\nStart a new pattern on {size}? "
+                                                         "(the file above is left as it is)")
+        self.push_screen(Choice(title, text, [("new", "New pattern"), ("other", "Another profile…"),
+                                              ("quit", "Quit")], id="ask-new"), answer)
 
-    def _start(self, session: Session) -> None:
+    def start_new(self, profile: Profile, path: Path | None) -> None:
+        """A blank one-frame pattern for ``profile`` (saved at ``path``, or asked for at the first save)."""
+        name = path.name.removesuffix(PATTERN_SUFFIX) if path is not None else "untitled"
+        anim = Animation.blank(profile.rows, profile.cols, name=name, profile=profile_ref(profile, path))
+        self.start_session(Session(anim, profile, path))
+
+    def start_session(self, session: Session) -> EditorScreen:
+        """Show ``session`` in a fresh editor (a new or another opened pattern replaces the one shown)."""
+        self.startup.read_only = False
         screen = EditorScreen(session, self.startup)
-        self.push_screen(screen)
+        if any(isinstance(s, EditorScreen) for s in self.screen_stack):
+            self.run_worker(self._replace_editor(screen), group="editor", exclusive=True)
+        else:
+            self.push_screen(screen)
         if self.startup.autosave_enabled:
             self.call_after_refresh(self._offer_recovery, screen)
         self.call_after_refresh(self._painted)
+        where = session.path if session.path is not None else "a new pattern (not saved yet)"
+        self.call_after_refresh(screen.say, f"{where}: {session.profile.name}, "
+                                f"{size_text(session.anim.rows, session.anim.cols)} LEDs ({SIZE_WORDS})")
+        return screen
+
+    async def _replace_editor(self, screen: EditorScreen) -> None:
+        # the old editor (and its link) must be gone before the new one mounts: they share the id
+        while any(isinstance(s, EditorScreen) for s in self.screen_stack):
+            await self.pop_screen()
+        await self.push_screen(screen)
+
+    def _profile_overridden(self, screen: EditorScreen) -> None:
+        screen._update_title()
+        screen.say(f"profile {screen.session.profile.name} from --profile: save to store it in the file")
 
     def _painted(self) -> None:
         if self.first_paint_s is None:

@@ -9,9 +9,10 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
 from textual.screen import ModalScreen
-from textual.widgets import Button, Input, Label, Static
+from textual.widgets import Button, Input, Label, OptionList, Static
+from textual.widgets.option_list import Option
 
-__all__ = ["Choice", "AskText", "Notice"]
+__all__ = ["Choice", "AskText", "Notice", "PickOne"]
 
 
 class Choice(ModalScreen[str]):
@@ -83,3 +84,36 @@ class Notice(Choice):
 
     def __init__(self, title: str, message: str, *, id: str | None = None) -> None:
         super().__init__(title, message, [("ok", "OK")], id=id)
+
+
+class PickOne(ModalScreen[str | None]):
+    """A list to pick from with the arrows and enter; returns the picked key, None on escape."""
+
+    BINDINGS = [Binding("escape", "cancel", "cancel", show=False)]
+
+    def __init__(self, title: str, message: str, options: list[tuple[str, str]], *, highlight: str | None = None,
+                 id: str | None = None) -> None:
+        super().__init__(id=id)
+        self._title, self._message, self._options = title, message, options
+        self._highlight = highlight
+
+    def compose(self) -> ComposeResult:
+        with Vertical(classes="dialog"):
+            yield Label(self._title, classes="dialog-title")
+            yield Static(self._message, classes="dialog-text", markup=False)
+            yield OptionList(*[Option(text, id=key) for key, text in self._options], id="pick-list")
+            yield Static("↑ ↓: choose · enter: ok · escape: cancel", classes="dialog-hint")
+
+    def on_mount(self) -> None:
+        options = self.query_one(OptionList)
+        keys = [key for key, _text in self._options]
+        if self._highlight in keys:
+            options.highlighted = keys.index(self._highlight)
+        options.focus()
+
+    def on_option_list_option_selected(self, event: OptionList.OptionSelected) -> None:
+        event.stop()
+        self.dismiss(event.option.id)
+
+    def action_cancel(self) -> None:
+        self.dismiss(None)

@@ -95,6 +95,12 @@ class DrawActions(_Editor):
     def action_invert(self) -> None:
         self.run_edit(self.session.invert)
 
+    def action_swap_colours(self) -> None:
+        self.run_edit(self.session.swap_colours)
+
+    def action_recolour(self) -> None:
+        self.run_edit(self.session.recolour)
+
     def action_clear(self) -> None:
         self.run_edit(self.session.clear)
 

@@ -12,6 +12,7 @@ from textual.screen import Screen
 from textual.widgets import Footer, Static
 
 from ..errors import RowcastError
+from ..model import size_text
 from . import autosave
 from .analysis import FrameChecks
 from .anim_checks import AnimationChecks
@@ -23,6 +24,7 @@ from .frames import FrameStrip
 from .generate_actions import GenerateActions
 from .keys import editor_bindings
 from .link_actions import LinkActions
+from .pattern_actions import PatternActions
 from .readout import Readout
 from .session import ALL, BRUSH_NAMES, Edited, Session
 from .startup import Startup
@@ -30,8 +32,8 @@ from .startup import Startup
 __all__ = ["EditorScreen"]
 
 
-class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, FileActions, AnimationChecks,
-                   Screen):
+class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, PatternActions, FileActions,
+                   AnimationChecks, Screen):
     BINDINGS = editor_bindings()
     HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (118, "-wide")]
 
@@ -103,7 +105,8 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, File
             where += " [bundled: save as]"
         dirty = "✱ unsaved · " if s.dirty else ""
         self._set_line("#title",
-            f"{dirty}{s.anim.name} · frame {s.current} of {s.anim.n_frames} · {s.profile.name} · {where}")
+            f"{dirty}{s.anim.name} · frame {s.current} of {s.anim.n_frames} · {s.profile.name} "
+            f"{size_text(s.anim.rows, s.anim.cols)} · {where}")
 
     def _update_tool(self) -> None:
         s = self.session
@@ -140,13 +143,32 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, File
             return
         if self.playing:
             self._stop_play()
-        if edited.frame == ALL:
+        if edited.panel:
+            self.panel_changed()
+        elif edited.frame == ALL:
             self.checks.full(self.session.anim)
         else:
             self.checks.update(self.session.anim, edited.frame)
         self.redraw()
         self.say(edited.label)
         self.schedule_animation_check()
+        self.query_one("#link-pane").frame_edited(self.session.frame)
+
+    def panel_changed(self) -> None:
+        """Another profile or panel size: new checks, a canvas of the new size, a link panel for the
+        new profile (a connection is closed: the receiver was set up for the old profile)."""
+        s = self.session
+        self.checks = FrameChecks(s.profile)
+        self.checks.full(s.anim)
+        self._guard_cache.clear()
+        self.canvas.resize_panel(s.anim.rows, s.anim.cols)
+        self.run_worker(self._replace_link_panel(), group="link-panel", exclusive=True)
+
+    async def _replace_link_panel(self) -> None:
+        old = self.query_one("#link-pane")
+        old.shutdown()
+        await old.remove()
+        await self.query_one("#main").mount(self._make_link_panel())
         self.query_one("#link-pane").frame_edited(self.session.frame)
 
     def run_edit(self, fn, *args) -> None:

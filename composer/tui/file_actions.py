@@ -22,7 +22,15 @@ from .dialogs import AskText, Choice
 from .help import HelpScreen
 from .keys import GROUPS
 
-__all__ = ["FileActions"]
+__all__ = ["FileActions", "with_suffix"]
+
+
+def with_suffix(path: Path) -> Path:
+    """``work/bike3`` and ``work/bike3.toml`` save as ``work/bike3.rowcast.toml``, so every command
+    (and the file list) recognises the pattern."""
+    if path.name.endswith(PATTERN_SUFFIX):
+        return path
+    return path.with_name(path.name.removesuffix(".toml") + PATTERN_SUFFIX)
 
 
 class FileActions(_Editor):
@@ -107,7 +115,7 @@ class FileActions(_Editor):
         def chosen(value: str | None) -> None:
             if not value:
                 return
-            path = Path(value).expanduser()
+            path = with_suffix(Path(value).expanduser())
             if path.exists() and path != s.path:
                 def answer(key: str) -> None:
                     if key == "overwrite":
@@ -117,28 +125,33 @@ class FileActions(_Editor):
                 return
             self._save_to(path, then)
 
-        self.app.push_screen(AskText("Save as", "file name", suggestion, check=check, id="ask-save-as"), chosen)
+        self.app.push_screen(AskText("Save as", f"file name ({PATTERN_SUFFIX} is added when missing)", suggestion, check=check, id="ask-save-as"), chosen)
 
     def action_help(self) -> None:
         self.app.push_screen(HelpScreen(GROUPS))
 
     def action_quit(self) -> None:
+        self.unsaved_then("Save the changes before quitting?", self._quit_clean, discard="Quit without saving")
+
+    def unsaved_then(self, question: str, then, *, discard: str = "Don't save") -> None:
+        """Run ``then`` once the changes are saved or knowingly dropped (at once when there are none)."""
         if not self.session.dirty:
-            self._quit_clean()
+            then()
             return
 
         def answer(key: str) -> None:
             if key == "save":
                 if self.session.path is None or self.startup.read_only:
-                    self.action_save_as(then=self._quit_clean)
+                    self.action_save_as(then=then)
                 else:
-                    self._save_to(self.session.path, then=self._quit_clean)
+                    self._save_to(self.session.path, then=then)
             elif key == "discard":
-                self._quit_clean()
+                then()
 
-        self.app.push_screen(Choice("Unsaved changes", "Save the changes before quitting?",
-                                    [("save", "Save"), ("discard", "Quit without saving"),
-                                     ("cancel", "Cancel")], id="ask-quit"), answer)
+        self.app.push_screen(Choice("Unsaved changes", question if question.endswith("?") else
+                                    f"{question}: save the changes first?",
+                                    [("save", "Save"), ("discard", discard), ("cancel", "Cancel")],
+                                    id="ask-quit" if then == self._quit_clean else "ask-unsaved"), answer)
 
     def _quit_clean(self) -> None:
         try:

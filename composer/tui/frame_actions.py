@@ -51,8 +51,26 @@ class FrameActions(_Editor):
     def action_select_frame(self) -> None:
         self.session.toggle_selected()
         n = len(self.session.selected)
-        self.say(f"{n} frame{'s' if n != 1 else ''} picked for set duration" if n else "no frames picked")
+        self.say(f"{n} frame{'s' if n != 1 else ''} picked: frame and picture edits work on them" if n else
+                 "no frames picked")
         self.redraw(readout=False)
+
+    def action_pick_range(self) -> None:
+        self.say(self.session.pick_range())
+        self.redraw(readout=False)
+
+    def action_pick_all(self) -> None:
+        self.say(self.session.pick_all())
+        self.redraw(readout=False)
+
+    def action_copy_frames(self) -> None:
+        self.say(self.session.copy_frames())
+
+    def action_paste_frames(self) -> None:
+        self.run_edit(self.session.paste_frames)
+
+    def action_reverse_frames(self) -> None:
+        self.run_edit(self.session.reverse_frames)
 
     def action_duration(self) -> None:
         targets = self.session.duration_targets()

@@ -1,13 +1,15 @@
 """Undo / redo for the composer: an unbounded list of changes within one session.
 
 A change stores only what it touched: one frame (before and after) for drawing, or the whole
-frame stack and durations for frame-list edits (add, delete, move, durations). Undo applies the
+frame stack and durations for frame-list edits (add, delete, move, durations), plus the profile
+on each side when the edit changed the panel. Undo applies the
 "before" side, redo the "after" side, each also restoring which frame was on the canvas.
 The position at the last save tells whether there are unsaved changes.
 """
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -24,6 +26,8 @@ class Change:
     after: tuple[np.ndarray, np.ndarray]
     frame_before: int                    # frame on the canvas before / after the edit
     frame_after: int
+    profile_before: Any = None           # a profile change (a Profile each side); None: the same profile
+    profile_after: Any = None
 
     @classmethod
     def of_frame(cls, label: str, index: int, before: np.ndarray, after: np.ndarray) -> "Change":
@@ -32,9 +36,10 @@ class Change:
 
     @classmethod
     def of_animation(cls, label: str, before: tuple[np.ndarray, np.ndarray], after: Animation,
-                     frame_before: int, frame_after: int) -> "Change":
+                     frame_before: int, frame_after: int, profiles: tuple[Any, Any] | None = None) -> "Change":
+        pb, pa = profiles if profiles is not None else (None, None)
         return cls(label, None, (before[0].copy(), before[1].copy()),
-                   (after.frames.copy(), after.durations_ms.copy()), frame_before, frame_after)
+                   (after.frames.copy(), after.durations_ms.copy()), frame_before, frame_after, pb, pa)
 
     def apply(self, anim: Animation, *, undo: bool) -> int:
         """Put ``anim`` in the before (undo) or after (redo) state; returns the frame to show."""

@@ -8,6 +8,7 @@ record the change for undo and say what changed, so the app redraws and re-analy
 """
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Callable
@@ -16,12 +17,12 @@ import numpy as np
 
 from .. import draw, model
 from ..errors import InputError
-from ..model import AMBER, GREEN, OFF, RED, Animation
+from ..model import AMBER, GREEN, OFF, RED, Animation, size_text
 from ..pattern_file import save_pattern
-from ..profile import Profile
+from ..profile import Profile, bundled_profiles
 from .history import Change, History
 
-__all__ = ["Session", "Edited", "ALL", "BRUSH_NAMES"]
+__all__ = ["Session", "Edited", "ALL", "BRUSH_NAMES", "profile_ref"]
 
 ALL = -1                                   # "every frame changed" (frame-list edits, undo of them)
 BRUSH_NAMES = {OFF: "off", RED: "red", GREEN: "green", AMBER: "amber"}
@@ -29,9 +30,33 @@ BRUSH_NAMES = {OFF: "off", RED: "red", GREEN: "green", AMBER: "amber"}
 
 @dataclass(frozen=True)
 class Edited:
-    """What an edit changed: one frame index, or ALL; ``label`` is shown in the status line."""
+    """What an edit changed: one frame index, or ALL; ``label`` is shown in the status line;
+    ``panel`` when the profile or the panel size changed (the screen rebuilds its views)."""
     frame: int
     label: str
+    panel: bool = False
+
+
+def profile_ref(profile: Profile, pattern_path: Path | None, current: str | None = None) -> str:
+    """What a pattern file should say to find ``profile`` again: a bundled profile's name, or the
+    profile file's path relative to the pattern's folder (absolute while the pattern has no file).
+    ``current`` (the reference the file has now) is kept when it still leads to the same file."""
+    source = Path(profile.source).resolve()
+    for name, path in bundled_profiles().items():
+        if Path(path).resolve() == source:
+            return name
+    folder = pattern_path.resolve().parent if pattern_path is not None else None
+    if current and folder is not None:
+        from ..profile import resolve_profile_ref
+        try:
+            if resolve_profile_ref(current, relative_to=folder).resolve() == source:
+                return current
+        except InputError:
+            pass
+    if folder is None:
+        return source.as_posix()
+    ref = Path(os.path.relpath(source, folder)).as_posix()
+    return ref if "/" in ref else f"./{ref}"    # a bare name would read as a bundled profile
 
 
 @dataclass
@@ -46,7 +71,9 @@ class Session:
     brush: int = RED
     wrap: bool = False
     clipboard: np.ndarray | None = None
-    selected: set[int] = field(default_factory=set)   # frames picked for "set duration"
+    selected: set[int] = field(default_factory=set)   # picked frames: frame-list and whole-picture edits use them
+    pick_anchor: int | None = None        # the last frame picked: "pick range" runs from it to the current
+    frame_clipboard: tuple[np.ndarray, np.ndarray] | None = None   # copied frames and their durations
 
     # -- reading --------------------------------------------------------------------------
     @property
@@ -78,21 +105,32 @@ class Session:
         self.history.record(change)
         return Edited(self.current, label)
 
-    def edit_animation(self, label: str, fn: Callable[[Animation], int | None]) -> Edited | None:
-        """Run ``fn`` on the animation (it returns the frame to show, or None to keep the current)."""
+    def edit_animation(self, label: str, fn: Callable[[Animation], int | None], *,
+                       profile: Profile | None = None) -> Edited | None:
+        """Run ``fn`` on the animation (it returns the frame to show, or None to keep the current).
+        With ``profile`` the edit also moves the pattern to that profile (one undo step)."""
         before = (self.anim.frames.copy(), self.anim.durations_ms.copy())
         was = self.current
         trial = self.anim.copy()
         show = fn(trial)                  # raises InputError before anything changed
-        if (trial.frames.shape == before[0].shape and np.array_equal(trial.frames, before[0])
+        new_profile = profile is not None and profile != self.profile
+        if (not new_profile and trial.frames.shape == before[0].shape and np.array_equal(trial.frames, before[0])
                 and np.array_equal(trial.durations_ms, before[1])):
             return None
         self.anim.frames, self.anim.durations_ms = trial.frames, trial.durations_ms
         self.current = min(was if show is None else show, self.anim.n_frames - 1)
         self.selected = {i for i in self.selected if i < self.anim.n_frames}
-        self.history.record(Change.of_animation(label, before, self.anim, was, self.current))
+        profiles = None
+        if new_profile:
+            profiles = (self.profile, profile)
+            self._set_profile(profile)
+        self.history.record(Change.of_animation(label, before, self.anim, was, self.current, profiles))
         self.clamp()
-        return Edited(ALL, label)
+        return Edited(ALL, label, panel=new_profile or trial.frames.shape[1:] != before[0].shape[1:])
+
+    def _set_profile(self, profile: Profile) -> None:
+        self.profile = profile
+        self.anim.profile = profile_ref(profile, self.path, self.anim.profile)
 
     def undo(self) -> Edited | None:
         change = self.history.undo(self.anim)
@@ -108,8 +146,14 @@ class Session:
         self.current = change.frame_before if word == "undo" else change.frame_after
         self.current = min(self.current, self.anim.n_frames - 1)
         self.selected = {i for i in self.selected if i < self.anim.n_frames}
+        panel = change.profile_before is not None or (
+            change.index is None and change.before[0].shape[1:] != change.after[0].shape[1:])
+        if change.profile_before is not None:
+            self._set_profile(change.profile_before if word == "undo" else change.profile_after)
+        if panel:
+            self.mark = None
         self.clamp()
-        return Edited(ALL if change.index is None else change.index, f"{word} {change.label}")
+        return Edited(ALL if change.index is None else change.index, f"{word} {change.label}", panel=panel)
 
     def clamp(self) -> None:
         r, c = self.cursor
@@ -173,22 +217,51 @@ class Session:
         return self.edit_frame("paste over" if transparent else "paste",
                                model.paste_region(self.frame, self.clipboard, r, c, transparent=transparent))
 
-    # -- whole-frame operations ---------------------------------------------------------------
+    # -- whole-picture operations (the picked frames when any are picked) ---------------------
+    def edit_pictures(self, label: str, fn: Callable[[np.ndarray], np.ndarray]) -> Edited | None:
+        """``fn`` on the current frame, or on every picked frame as one undo step."""
+        if not self.selected:
+            return self.edit_frame(label, fn(self.frame))
+        idx = sorted(self.selected)
+
+        def each(a: Animation) -> None:
+            for i in idx:
+                a.frames[i] = fn(a.frames[i])
+        return self.edit_animation(f"{label} on {_frames(len(idx))}", each)
+
     def shift(self, d_rows: int, d_cols: int) -> Edited | None:
         word = "shift with wrap" if self.wrap else "shift"
-        return self.edit_frame(word, model.shift(self.frame, d_rows, d_cols, wrap=self.wrap))
+        return self.edit_pictures(word, lambda f: model.shift(f, d_rows, d_cols, wrap=self.wrap))
 
     def mirror(self, axis: str) -> Edited | None:
-        return self.edit_frame(f"mirror {axis}", model.mirror(self.frame, axis))
+        word = {"horizontal": "mirror left-right", "vertical": "mirror top-bottom"}.get(axis, "mirror")
+        return self.edit_pictures(word, lambda f: model.mirror(f, axis))
 
     def rotate(self, quarter_turns: int) -> Edited | None:
-        return self.edit_frame("rotate", model.rotate(self.frame, quarter_turns))
+        return self.edit_pictures("rotate", lambda f: model.rotate(f, quarter_turns))
 
     def invert(self) -> Edited | None:
-        return self.edit_frame("invert", model.invert(self.frame, self.brush if self.brush else AMBER))
+        return self.edit_pictures("invert", lambda f: model.invert(f, self.brush if self.brush else AMBER))
 
     def clear(self) -> Edited | None:
-        return self.edit_frame("clear", model.clear(self.frame))
+        return self.edit_pictures("clear", model.clear)
+
+    def swap_colours(self) -> Edited | None:
+        return self.edit_pictures("swap red and green", model.swap_colours)
+
+    def recolour(self) -> Edited | None:
+        """Every LED of the colour under the cursor (in the region) takes the brush colour."""
+        r, c = self.cursor
+        was = int(self.frame[r, c])
+        top, left, bottom, right = self.region()
+        brush = self.brush
+
+        def fn(f: np.ndarray) -> np.ndarray:
+            out = f.copy()
+            part = out[top:bottom + 1, left:right + 1]
+            part[part == was] = brush
+            return out
+        return self.edit_pictures(f"{BRUSH_NAMES[was]} LEDs to {BRUSH_NAMES[brush]}", fn)
 
     # -- frame list -------------------------------------------------------------------------
     def add_frame(self) -> Edited | None:
@@ -200,33 +273,117 @@ class Session:
         i = self.current
         return self.edit_animation("duplicate frame", lambda a: (a.duplicate(i), i + 1)[1])
 
-    def delete_frame(self) -> Edited | None:
-        i = self.current
-        return self.edit_animation("delete frame", lambda a: (a.delete(i), max(i - 1, 0) if i else 0)[1])
-
-    def move_frame(self, delta: int) -> Edited | None:
-        i, to = self.current, self.current + delta
-        if not 0 <= to < self.anim.n_frames:
-            return None
-        self.selected = set()
-        return self.edit_animation("move frame", lambda a: (a.move(i, to), to)[1])
-
-    def duration_targets(self) -> list[int]:
+    def targets(self) -> list[int]:
+        """The frames a frame-list edit works on: the picked ones, or the current one."""
         return sorted(self.selected) if self.selected else [self.current]
 
+    duration_targets = targets
+
+    def delete_frames(self) -> Edited | None:
+        idx = self.targets()
+        if len(idx) >= self.anim.n_frames:
+            raise InputError("cannot delete the only frame" if len(idx) == 1 else
+                             "cannot delete every frame: a pattern keeps at least one")
+        first = idx[0]
+
+        def cut(a: Animation) -> int:
+            keep = np.setdiff1d(np.arange(a.n_frames), idx)
+            a.frames, a.durations_ms = a.frames[keep], a.durations_ms[keep]
+            return max(first - 1, 0) if first else 0
+        self.selected = set()
+        return self.edit_animation("delete frame" if len(idx) == 1 else f"delete {_frames(len(idx))}", cut)
+
+    delete_frame = delete_frames
+
+    def move_frames(self, delta: int) -> Edited | None:
+        """Move the picked frames (or the current one) one place earlier (-1) or later (+1), keeping
+        their order; picks and the current frame move with them."""
+        idx = self.targets()
+        n = self.anim.n_frames
+        if (delta < 0 and idx[0] == 0) or (delta > 0 and idx[-1] == n - 1):
+            raise InputError("already the first frame" if delta < 0 else "already the last frame")
+        order = list(range(n))
+        picked = set(idx)
+        for i in (idx if delta < 0 else idx[::-1]):
+            j = order.index(i)
+            order[j], order[j + delta] = order[j + delta], order[j]
+        new_pos = {old: new for new, old in enumerate(order)}
+        show = new_pos[self.current]
+        label = "move frame" if len(idx) == 1 else f"move {_frames(len(idx))}"
+        if self.selected:
+            self.selected = {new_pos[i] for i in picked}
+            self.pick_anchor = None
+
+        def reorder(a: Animation) -> int:
+            a.frames, a.durations_ms = a.frames[order], a.durations_ms[order]
+            return show
+        edited = self.edit_animation(label, reorder)
+        if edited is None:
+            # equal frames swapped places (a duplicate moving past its original): nothing to undo,
+            # but the current frame still moves so the next press goes on
+            self.current = show
+            return Edited(ALL, f"{label} (same picture as its neighbour)")
+        return edited
+
+    def move_frame(self, delta: int) -> Edited | None:
+        return self.move_frames(delta)
+
     def set_duration(self, ms: int) -> Edited | None:
-        targets = self.duration_targets()
-        label = f"duration {ms} ms" + (f" on {len(targets)} frames" if len(targets) > 1 else "")
+        targets = self.targets()
+        label = f"duration {ms} ms" + (f" on {_frames(len(targets))}" if len(targets) > 1 else "")
         return self.edit_animation(label, lambda a: a.set_duration(targets, ms))
 
     def toggle_selected(self) -> None:
         self.selected ^= {self.current}
+        self.pick_anchor = self.current if self.current in self.selected else None
+
+    def pick_all(self) -> str:
+        if len(self.selected) == self.anim.n_frames:
+            self.selected, self.pick_anchor = set(), None
+            return "no frames picked"
+        self.selected = set(range(self.anim.n_frames))
+        return f"all {_frames(self.anim.n_frames)} picked"
+
+    def pick_range(self) -> str:
+        anchor = self.pick_anchor if self.pick_anchor is not None else self.current
+        lo, hi = sorted((anchor, self.current))
+        self.selected |= set(range(lo, hi + 1))
+        self.pick_anchor = self.current
+        return f"picked frames {lo} to {hi}" if hi > lo else f"picked frame {lo}"
+
+    def reverse_frames(self) -> Edited | None:
+        """Reverse the order of the picked frames (of every frame when none or one is picked)."""
+        idx = self.targets() if len(self.selected) > 1 else list(range(self.anim.n_frames))
+        if len(idx) < 2:
+            raise InputError("one frame: nothing to reverse")
+        order = list(range(self.anim.n_frames))
+        for a_, b_ in zip(idx, idx[::-1]):
+            order[a_] = b_
+
+        def rev(a: Animation) -> None:
+            a.frames, a.durations_ms = a.frames[order], a.durations_ms[order]
+        return self.edit_animation(f"reverse {_frames(len(idx))}", rev)
+
+    def copy_frames(self) -> str:
+        idx = self.targets()
+        self.frame_clipboard = (self.anim.frames[idx].copy(), self.anim.durations_ms[idx].copy())
+        return f"copied {_frames(len(idx))}"
+
+    def paste_frames(self) -> Edited | None:
+        if self.frame_clipboard is None:
+            raise InputError("no frames copied: pick frames (s) and copy them (y) first")
+        frames, durations = self.frame_clipboard
+        if frames.shape[1:] != (self.anim.rows, self.anim.cols):
+            raise InputError(f"the copied frames are {size_text(*frames.shape[1:])}, the panel is "
+                             f"{size_text(self.anim.rows, self.anim.cols)}")
+        copied = Animation(frames, durations)
+        return self.insert_animation(copied, f"paste {_frames(copied.n_frames)}")
 
     def replace_animation(self, anim: Animation, label: str) -> Edited | None:
         """Swap in a whole new animation (a recovered autosave, an imported image) as one undo step."""
         if (anim.rows, anim.cols) != (self.anim.rows, self.anim.cols):
-            raise InputError(f"the new frames are {anim.rows}x{anim.cols}, the panel is "
-                             f"{self.anim.rows}x{self.anim.cols}")
+            raise InputError(f"the new frames are {size_text(anim.rows, anim.cols)}, the panel is "
+                             f"{size_text(self.anim.rows, self.anim.cols)}")
 
         def swap(a: Animation) -> int:
             a.frames, a.durations_ms = anim.frames.copy(), anim.durations_ms.copy()
@@ -236,8 +393,8 @@ class Session:
     def insert_animation(self, anim: Animation, label: str) -> Edited | None:
         """Insert another animation's frames after the current frame (an import, a text scroller)."""
         if (anim.rows, anim.cols) != (self.anim.rows, self.anim.cols):
-            raise InputError(f"the new frames are {anim.rows}x{anim.cols}, the panel is "
-                             f"{self.anim.rows}x{self.anim.cols}")
+            raise InputError(f"the new frames are {size_text(anim.rows, anim.cols)}, the panel is "
+                             f"{size_text(self.anim.rows, self.anim.cols)}")
         at = self.current + 1
 
         def put(a: Animation) -> int:
@@ -249,12 +406,34 @@ class Session:
             return at
         return self.edit_animation(label, put)
 
+    # -- the pattern's profile and panel ------------------------------------------------------
+    def change_profile(self, profile: Profile, anchor: str = "centre") -> Edited | None:
+        """Move the pattern to another profile; a different panel size pads or crops every frame
+        around ``anchor`` (one undo step)."""
+        old = size_text(self.anim.rows, self.anim.cols)
+        new = size_text(profile.rows, profile.cols)
+        resized = (profile.rows, profile.cols) != (self.anim.rows, self.anim.cols)
+
+        def fit(a: Animation) -> None:
+            if resized:
+                a.frames = model.refit(a.frames, profile.rows, profile.cols, anchor)
+        label = f"profile {profile.name}" + (f", panel {old} to {new} ({anchor})" if resized else "")
+        if resized:
+            self.mark = None
+        return self.edit_animation(label, fit, profile=profile)
+
     # -- files ------------------------------------------------------------------------------
     def save(self, path: Path | None = None) -> Path:
         target = Path(path) if path is not None else self.path
         if target is None:
             raise InputError("this pattern has no file yet: use save as")
+        # the reference is worked out for where the file goes, so it reopens from there
+        self.anim.profile = profile_ref(self.profile, target, self.anim.profile)
         save_pattern(self.anim, target)   # atomic, keeps one .bak
         self.path = target
         self.history.mark_saved()
         return target
+
+
+def _frames(n: int) -> str:
+    return f"{n} frame" if n == 1 else f"{n} frames"

@@ -8,8 +8,12 @@
 #ifndef RC_MAX_ROWS
 #define RC_MAX_ROWS 16u            /* PROTOCOL.md section 6: ATmega328P-class build */
 #endif
+/* 10 bytes a row slot: two row registers and eight column registers, the bundled 32 x 16 tiled sign
+ * (patterns/profiles/tiled-32x16.toml). The two frame buffers and the message buffer then take 487 of
+ * the 597 bytes of static RAM (avr-size), leaving about 1.4 KB of the 2 KB for the stack (ATmega328P
+ * datasheet: 2 KB SRAM, from memory). */
 #ifndef RC_MAX_BYTES_PER_ROW
-#define RC_MAX_BYTES_PER_ROW 8u
+#define RC_MAX_BYTES_PER_ROW 10u
 #endif
 
 /* Shortest row period the scan interrupt is given: at 16 MHz the row interrupt takes well under

@@ -4,6 +4,8 @@
 
 - GIF preview (numpy palette images) against drawing every LED with ``ImageDraw.ellipse`` (the obvious
   per-LED loop) for the same frames; the floor is 1x (ours must not be slower).
+- As-lit GIF (light model + per-frame palettes) of 300 frames 8x8 against the flat GIF of the same frames
+  in the same run; the goal is at most 2x.
 - C header text for a long animation against ``bytes.hex`` of the same shift bytes (a floor: the least
   any text output can cost); printed as a ratio so a regression shows.
 - Image import of a many-frame GIF, per frame, against pillow decoding the same GIF alone.
@@ -20,6 +22,7 @@ from PIL import Image, ImageDraw
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 
+from composer.electrical.light import as_lit                          # noqa: E402
 from composer.exports.c_tables import c_header                     # noqa: E402
 from composer.exports.check import check_report                     # noqa: E402
 from composer.exports.preview import COLOURS_RGB, OFF_RGB, gif_bytes  # noqa: E402
@@ -62,6 +65,14 @@ def main() -> int:
     ref = _time(lambda: _reference_gif(anim, 12), repeat=1)
     print(f"gif preview, 300 frames 16x8 at scale 12: {ours * 1e3:.0f} ms, per-LED ellipse reference "
           f"{ref * 1e3:.0f} ms, ratio {ref / ours:.1f}x (floor 1x)")
+
+    shared = load_profile("shared-8x8")
+    small = Animation(rng.integers(0, 4, (300, 8, 8)), np.full(300, 50), name="lit")
+    flat = _time(lambda: gif_bytes(small, 12))
+    lit = _time(lambda: gif_bytes(small, 12, as_lit(small.frames, shared, "typ")))
+    verdict = "goal met" if lit <= 2 * flat else "OVER THE GOAL"
+    print(f"as-lit gif, 300 frames 8x8 at scale 12: {lit * 1e3:.0f} ms, flat gif {flat * 1e3:.0f} ms, ratio "
+          f"{lit / flat:.2f}x (goal at most 2x: {verdict})")
 
     long = Animation(rng.integers(0, 4, (5000, prof.rows, prof.cols)), np.full(5000, 40), name="long")
     report = check_report(long, prof)

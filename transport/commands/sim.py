@@ -25,7 +25,7 @@ from .. import simboard
 
 __all__ = ["configure", "run"]
 
-MAX_REGISTERS = 8       # firmware_stub/core/config.h: RC_MAX_BYTES_PER_ROW
+MAX_REGISTERS = 10      # firmware_stub/core/config.h: RC_MAX_BYTES_PER_ROW
 MAX_ROWS = 16           # RC_MAX_ROWS
 
 

@@ -1,0 +1,91 @@
+"""How fast the receiver firmware can scan a panel: the shortest row period it sustains and the refresh
+that gives, beside the flicker regions, so a builder can pick a row period.
+
+The receiver's row interrupt (``firmware_stub/core/scan.h`` in the board's timer interrupt) costs a fixed
+part plus a part per byte of the row slot it shifts. Both numbers are measured in simavr
+(``tests/bench/bench_firmware.py`` prints them; ``tests/test_firmware_sim.py`` fails when the firmware
+no longer matches them), so this module states what the firmware in this tree does, not a guess.
+
+"Sustains" means the scan takes at most :data:`SCAN_CPU_SHARE` of the core: the rest of the time the main
+loop decodes the serial stream (a FRAME of the 32 x 16 sign arrives every few milliseconds at 1 Mbaud).
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import asdict, dataclass
+
+from ..profile import Profile
+from .timing import flicker_region
+
+__all__ = ["ScanSpeed", "scan_speed", "row_irq_cycles", "F_CPU_HZ", "ROW_IRQ_BASE_CYCLES",
+           "ROW_IRQ_CYCLES_PER_BYTE", "SCAN_CPU_SHARE", "MIN_ROW_PERIOD_US", "LOW_RISK_HZ", "NO_EFFECT_HZ"]
+
+F_CPU_HZ = 16_000_000          # firmware_stub/Makefile F_CPU: an ATmega328P-class board at 16 MHz
+# Mean cycles of one row interrupt for B bytes a slot: BASE + PER_BYTE * B (interrupt response and RETI
+# included; the once-a-scan frame swap spread over the scan). Measured in simavr: 158 for 3 bytes,
+# 202 for 5, 312 for 10.
+ROW_IRQ_BASE_CYCLES = 92
+ROW_IRQ_CYCLES_PER_BYTE = 22
+SCAN_CPU_SHARE = 0.30          # the scan's share of the core this project holds the firmware to
+MIN_ROW_PERIOD_US = 20         # firmware_stub/core/config.h RC_MIN_ROW_PERIOD_US: CONFIGURE refuses less
+# IEEE Std 1789-2015 for 100 % modulation (see timing.flicker_region; from memory): low risk above
+# 1250 Hz, no observable effect above 3000 Hz.
+LOW_RISK_HZ = 1250.0
+NO_EFFECT_HZ = 3000.0
+
+
+def row_irq_cycles(bytes_per_row: int) -> float:
+    return ROW_IRQ_BASE_CYCLES + ROW_IRQ_CYCLES_PER_BYTE * bytes_per_row
+
+
+@dataclass(frozen=True)
+class ScanSpeed:
+    rows: int
+    bytes_per_row: int
+    irq_cycles: float              # one row interrupt
+    cpu_share_max: float
+    fastest_row_period_us: float   # the shortest the receiver sustains
+    fastest_refresh_hz: float
+    fastest_region: str            # timing.FLICKER_REGIONS
+    row_period_us: float           # the profile's
+    refresh_hz: float              # the profile's
+    region: str
+    cpu_share: float               # the profile's scan share of the core
+    sustained: bool                # the profile's row period is at least the fastest
+    low_risk_below_us: float       # row periods shorter than this refresh above 1250 Hz
+    no_effect_below_us: float      # ... above 3000 Hz
+
+    def to_json(self) -> dict:
+        return {k: (round(v, 4) if isinstance(v, float) else v) for k, v in asdict(self).items()}
+
+    def lines(self) -> list[str]:
+        """Three report lines: what the receiver sustains, where the profile stands, what to aim for."""
+        return [
+            f"fastest scan: row interrupt about {self.irq_cycles:.0f} cycles for {self.bytes_per_row} bytes a slot "
+            f"({ROW_IRQ_BASE_CYCLES} + {ROW_IRQ_CYCLES_PER_BYTE} a byte at {F_CPU_HZ / 1e6:g} MHz, simavr); within "
+            f"{100 * self.cpu_share_max:.0f} % of the core: rows of {self.fastest_row_period_us:.1f} us or longer, "
+            f"{self.fastest_refresh_hz:.0f} Hz refresh ({self.fastest_region})",
+            f"this scan: {self.row_period_us:g} us rows, {self.refresh_hz:.0f} Hz ({self.region}), scan "
+            f"{100 * self.cpu_share:.0f} % of the core: "
+            + ("the receiver sustains it" if self.sustained else
+               f"FASTER than the receiver sustains (use {self.fastest_row_period_us:.1f} us or more)"),
+            f"choosing: rows under {self.low_risk_below_us:.1f} us for low flicker risk (above {LOW_RISK_HZ:g} Hz), "
+            f"under {self.no_effect_below_us:.1f} us for no observable effect (above {NO_EFFECT_HZ:g} Hz)",
+        ]
+
+
+def scan_speed(profile: Profile) -> ScanSpeed:
+    rows, nbytes = profile.rows, profile.n_registers
+    cycles = row_irq_cycles(nbytes)
+    # Rounded up to 0.1 us, the resolution the report prints, so "sustained" never rounds the wrong way.
+    fastest = max(float(MIN_ROW_PERIOD_US), profile.scan.blanking_us + 0.1,
+                  math.ceil(cycles / (SCAN_CPU_SHARE * F_CPU_HZ) * 1e7) / 10)
+    fastest_hz = 1e6 / (fastest * rows)
+    period = profile.scan.row_period_us
+    hz = 1e6 / (period * rows)
+    share = cycles / (period * 1e-6 * F_CPU_HZ)
+    return ScanSpeed(rows=rows, bytes_per_row=nbytes, irq_cycles=cycles, cpu_share_max=SCAN_CPU_SHARE,
+                     fastest_row_period_us=fastest, fastest_refresh_hz=fastest_hz,
+                     fastest_region=flicker_region(fastest_hz)[0], row_period_us=period, refresh_hz=hz,
+                     region=flicker_region(hz)[0], cpu_share=share, sustained=period >= fastest,
+                     low_risk_below_us=1e6 / (LOW_RISK_HZ * rows), no_effect_below_us=1e6 / (NO_EFFECT_HZ * rows))

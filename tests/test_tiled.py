@@ -1,0 +1,158 @@
+"""The bundled tiled sign (32 columns x 16 rows, 1/16 scan, external supply), its two demos, and the
+row-period advice ``rowcast check`` gives for any panel.
+
+References outside the project: ngspice solves a full row of the sign; the IEEE Std 1789-2015 flicker
+boundaries and the USB 2.0 port budget are from the published documents (from memory); the receiver's
+row-interrupt cycles are measured in simavr running the avr-gcc build.
+"""
+from __future__ import annotations
+
+import json
+import re
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from composer.cli import main
+from composer.electrical import analyse, guard, scan_speed
+from composer.electrical.limits import limits_for
+from composer.electrical.scan_speed import (F_CPU_HZ, MIN_ROW_PERIOD_US, ROW_IRQ_BASE_CYCLES,
+                                            ROW_IRQ_CYCLES_PER_BYTE, SCAN_CPU_SHARE)
+from composer.electrical.spice import row_netlist
+from composer.electrical.timing import scan_timing
+from composer.pattern_file import open_pattern
+from composer.profile import load_profile
+from tests.conftest import need_tool
+
+ROOT = Path(__file__).resolve().parent.parent
+TICKETS = ROOT / "patterns" / "ticket-counter.rowcast.toml"
+FLOOD = ROOT / "patterns" / "floodlight-overload.rowcast.toml"
+USB2_PORT_MA = 500.0        # USB 2.0 specification: a standard downstream port supplies 500 mA
+
+
+@pytest.fixture(scope="module")
+def tiled():
+    return load_profile("tiled-32x16")
+
+
+def test_tiled_profile_is_two_row_registers_two_drivers_eight_column_registers(tiled):
+    assert (tiled.rows, tiled.cols) == (16, 32)
+    roles = [r.drives for r in tiled.chain.registers]
+    assert roles.count("rows") == 2 and roles.count("red") == 4 and roles.count("green") == 4
+    # two 8-channel drivers: rows 0-7 on the first package, rows 8-15 on the second
+    lim = limits_for(tiled, scan_timing(tiled))
+    assert lim.package_rows == (tuple(range(8)), tuple(range(8, 16)))
+    t = scan_timing(tiled)
+    assert t.duty == pytest.approx(1 / 16)                      # 1/16 scan
+    # 16 rows x 48 us = 768 us by hand: 1302.08 Hz
+    assert t.refresh_hz == pytest.approx(1e6 / (16 * 48))
+    # an external supply with a budget of its own, beyond what a USB 2.0 port gives
+    assert tiled.supply.budget_ma > USB2_PORT_MA
+    text = Path(tiled.source).read_text()
+    assert "from memory" in text and "USB 2.0 port" in text
+
+
+def test_full_amber_row_is_over_the_supply_budget_in_ngspice(tiled, tmp_path):
+    """The caution in the profile and the over-budget demo rest on this: one whole row lit in both
+    colours draws more than the supply budget (and than a USB port) at the stress corner."""
+    need_tool("ngspice")
+    from tests.test_ngspice import run_ngspice
+    frame = np.zeros((16, 32), np.uint8)
+    frame[3] = 3
+    nl = row_netlist(tiled, frame, 3, corner="stress")
+    got = run_ngspice(nl.text, nl.data_file, [nl.row_vector], tmp_path)
+    rep = analyse(frame[None], [100], tiled, corner="stress")
+    assert rep.row_ma[0, 3] == pytest.approx(got[nl.row_vector] * 1e3, rel=0.01)
+    assert got[nl.row_vector] * 1e3 > tiled.supply.budget_ma > USB2_PORT_MA
+    assert not guard(frame, tiled).ok
+
+
+def test_ticket_counter_demo_is_inside_every_limit(capsys):
+    assert main(["check", str(TICKETS)]) == 0
+    out = capsys.readouterr().out
+    assert "verdict: OK" in out and "tiled-32x16" in out
+    anim, profile = open_pattern(TICKETS)
+    assert anim.frames.shape[1:] == (16, 32) and anim.frames.shape[0] >= 8
+    assert all(guard(f, profile).ok for f in anim.frames)       # the stream would send every frame
+
+
+def test_floodlight_demo_is_over_the_supply_budget_and_never_sent(capsys):
+    assert main(["check", str(FLOOD)]) == 1
+    out = capsys.readouterr().out
+    anim, profile = open_pattern(FLOOD)
+    rep = analyse(anim.frames, anim.durations_ms, profile, corner="stress")
+    over_supply = {v.frame for v in rep.violations if v.rule == "supply-peak"}
+    assert over_supply == set(range(anim.frames.shape[0]))
+    assert (rep.supply_peak_ma > profile.supply.budget_ma).all()
+    assert "supply-peak" in out and "750 mA" in out
+    assert not any(guard(f, profile).ok for f in anim.frames)
+
+
+@pytest.mark.parametrize("name", ["bench-8x8", "wide-16x8", "tiled-32x16"])
+def test_row_period_advice_by_hand(name, capsys, tmp_path):
+    prof = load_profile(name)
+    s = scan_speed(prof)
+    nbytes = prof.n_registers
+    cycles = ROW_IRQ_BASE_CYCLES + ROW_IRQ_CYCLES_PER_BYTE * nbytes
+    # shortest row period with the interrupt at most 30 % of a 16 MHz core, in us
+    fastest = max(MIN_ROW_PERIOD_US, cycles / (SCAN_CPU_SHARE * F_CPU_HZ) * 1e6)
+    assert s.fastest_row_period_us == pytest.approx(fastest, abs=0.1)
+    assert s.fastest_refresh_hz == pytest.approx(1e6 / (prof.rows * s.fastest_row_period_us))
+    assert s.cpu_share == pytest.approx(cycles / (prof.scan.row_period_us * 16))
+    # IEEE Std 1789-2015 at 100 % modulation (from memory): low risk above 1250 Hz, no observable
+    # effect above 3000 Hz; the row period is 1 / (rows x refresh).
+    assert s.low_risk_below_us == pytest.approx(1e6 / (1250 * prof.rows))
+    assert s.no_effect_below_us == pytest.approx(1e6 / (3000 * prof.rows))
+    assert s.sustained == (prof.scan.row_period_us >= s.fastest_row_period_us)
+
+    # the check prints it, and the JSON carries it
+    frames = np.zeros((1, prof.rows, prof.cols), np.uint8)
+    from composer.model import Animation
+    from composer.pattern_file import save_pattern
+    path = tmp_path / "p.rowcast.toml"
+    save_pattern(Animation(frames, np.array([100]), name="t", profile=name), path)
+    main(["check", str(path)])
+    out = capsys.readouterr().out
+    assert f"rows of {s.fastest_row_period_us:.1f} us or longer" in out
+    assert f"rows under {s.low_risk_below_us:.1f} us for low flicker risk" in out
+    main(["check", str(path), "--json"])
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["summary"]["scan_speed"]["fastest_row_period_us"] == pytest.approx(s.fastest_row_period_us)
+
+
+def test_scan_speed_constants_are_the_firmware_build():
+    """The advice uses the firmware's clock and shortest row period: read them from the build files."""
+    make = (ROOT / "firmware_stub" / "Makefile").read_text()
+    assert int(re.search(r"^F_CPU \?= (\d+)UL", make, re.M).group(1)) == F_CPU_HZ
+    config = (ROOT / "firmware_stub" / "core" / "config.h").read_text()
+    assert int(re.search(r"#define RC_MIN_ROW_PERIOD_US (\d+)u", config).group(1)) == MIN_ROW_PERIOD_US
+
+
+def test_row_interrupt_cycles_follow_the_stated_formula(tmp_path):
+    """The advice's cycle formula is what the firmware in this tree does: one row interrupt of the
+    avr-gcc build, run in simavr, for 3, 5 and 10 bytes a slot. simavr's hook sees a handler from its
+    vector jump to its RETI; the 4-cycle interrupt response and the 4-cycle RETI (ATmega328P datasheet,
+    "Interrupt Response Time" and instruction set summary, from memory) are added."""
+    for tool in ("make", "avr-gcc", "avr-objcopy", "avr-size", "gcc", "simavr"):
+        need_tool(tool)
+    from transport import Link, simboard
+    from transport.simboard import SimBoard, read_records
+    build = simboard.build(tmp_path / "build")
+    f_cpu = simboard.F_CPU
+    for name in ("bench-8x8", "wide-16x8", "tiled-32x16"):
+        prof = load_profile(name)
+        recs_path = tmp_path / f"{name}.txt"
+        with SimBoard.start(prof, build_dir=build, records=recs_path, max_cycles=20 * f_cpu) as board:
+            with Link(board.port, prof, window=1, handshake_timeout=2.0, reconnect=False) as link:
+                frame = np.zeros((prof.rows, prof.cols), np.uint8)
+                frame[:, ::8] = 1
+                assert link.send_frame(frame).acked
+                board.wait_cycles(f_cpu // 100)
+                board.command("stats-reset")
+                board.wait_cycles(f_cpu // 20)           # 50 ms simulated, no serial traffic
+                board.command("stats")
+        tick = next(s for s in read_records(recs_path).isr if s.vector == 11)
+        mean = tick.mean + 8
+        stated = ROW_IRQ_BASE_CYCLES + ROW_IRQ_CYCLES_PER_BYTE * prof.n_registers
+        assert tick.count > 100 and abs(mean - stated) <= 3, (name, mean, stated)
