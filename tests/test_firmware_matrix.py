@@ -41,7 +41,6 @@ F = simboard.F_CPU
 SPI_BYTE_CYCLES = 16        # 8 bits at fosc/2 (the board layer's SPI setting; ATmega328P datasheet SPI clock table)
 SIM_BOUND = 20 * F
 PROFILE_DIR = Path(__file__).resolve().parent.parent / "patterns" / "profiles"
-WIDE = ("ROWS=8", "BYTES_PER_ROW=12")       # a build for panels of more than 8 registers (firmware_stub/Makefile)
 
 
 @pytest.fixture(scope="module")
@@ -50,9 +49,7 @@ def builds(tmp_path_factory):
         need_tool(tool)
     need_tool("simavr")
     need(Path("/usr/include/simavr/sim_avr.h").exists(), "libsimavr-dev (simavr headers) is not installed")
-    normal = simboard.build(tmp_path_factory.mktemp("fw-matrix"))
-    wide = simboard.build(tmp_path_factory.mktemp("fw-matrix-wide"), ("firmware",), WIDE)
-    return normal, simboard.firmware_path(wide)
+    return simboard.build(tmp_path_factory.mktemp("fw-matrix"))
 
 
 # ---------------------------------------------------------------------------------------------------------------
@@ -168,13 +165,11 @@ def authored_frames(profile, link: Link, n: int, seed: int) -> list[np.ndarray]:
     return out
 
 
-def stream_and_record(builds, profile, tmp_path: Path, n_frames: int = 3, seed: int = 1):
-    normal, wide_elf = builds
-    elf = wide_elf if len(profile.chain.registers) > 8 else None
+def stream_and_record(build_dir, profile, tmp_path: Path, n_frames: int = 3, seed: int = 1):
     recs_path = tmp_path / f"{profile.name}.records"
     period = int(round(profile.scan.row_period_us * F / 1e6))
-    with SimBoard.start(profile, build_dir=normal, records=recs_path, max_cycles=SIM_BOUND, spi_bits=True,
-                        firmware=elf) as board:
+    with SimBoard.start(profile, build_dir=build_dir, records=recs_path, max_cycles=SIM_BOUND,
+                        spi_bits=True) as board:
         with Link(board.port, profile, window=2, handshake_timeout=2.0, reconnect=False) as link:
             frames = authored_frames(profile, link, n_frames, seed)
             board.mark("frames")
@@ -230,7 +225,7 @@ def rewired_profile(seed: int, folder: Path):
     common = ("anode", "cathode")[seed % 2]
     base = tomllib.loads((PROFILE_DIR / ("bench-8x8.toml" if common == "anode" else "cathode-8x8.toml")).read_text())
     n_regs = int(rng.integers(3, 11))
-    if n_regs > 8 or n_regs < 4:                 # the wide build holds 8 rows; 3 registers leave one for rows
+    if n_regs > 8 or n_regs < 4:                 # 16 rows take two row registers: at most 8 columns' worth left
         rows, row_regs = int(rng.integers(2, 9)), 1
     else:
         rows = int(rng.integers(2, 17))
