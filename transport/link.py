@@ -117,6 +117,8 @@ class Link:
             raise InputError(f"profile {self.profile.name}: at the stress corner not even one lit LED per row stays "
                              "within the limits, so there is nothing the receiver's guard could let through "
                              "(rowcast check shows which limit)")
+        # A scan the receiver cannot do is refused here, before any port is opened (InputError, exit 2).
+        configure_message(self.profile, 0, self._limit, self._masks)
         self._closing = False
         port = self._opener(self.url, self.baud)
         try:
