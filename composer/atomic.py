@@ -1,11 +1,15 @@
 """Atomic saves: temp file in the same folder, fsync, rename; keep one ``.bak``.
 
-A process killed at any point leaves either the old file or the new one, whole.
+A process killed at any point leaves either the old file or the new one, whole; once a ``.bak`` existed
+one always exists; and the temporary files a killed save left behind are removed by the next save of the
+same file (``tests/test_atomic_kill.py`` kills a save with SIGKILL at every step).
 """
 from __future__ import annotations
 
 import os
+import re
 import tempfile
+import time
 from pathlib import Path
 
 from .errors import InputError
@@ -44,7 +48,12 @@ def _mode_for(path: Path) -> int:
 
 
 def _write(path: Path, folder: Path, data: bytes, keep_backup: bool) -> None:
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
+    _remove_stale(path, folder)
+    # The writer's pid is in every temporary name, so a later save can tell a dead writer's leftovers
+    # from a save still running in another process.
+    prefix = f".{path.name}.{os.getpid()}."
+    fd, tmp = tempfile.mkstemp(prefix=prefix, suffix=".tmp", dir=folder)
+    bak_tmp = None
     try:
         with os.fdopen(fd, "wb") as handle:
             handle.write(data)
@@ -52,14 +61,18 @@ def _write(path: Path, folder: Path, data: bytes, keep_backup: bool) -> None:
             os.fchmod(handle.fileno(), _mode_for(path))
             os.fsync(handle.fileno())
         if keep_backup and path.exists():
-            backup = path.with_name(path.name + ".bak")
-            # A hard link keeps the old file whole under its own name while the rename replaces it.
+            # A hard link keeps the old file whole under a temporary name; renaming that over the old .bak
+            # is atomic, so once a .bak existed one exists at every instant (never unlink-then-link).
+            bak_tmp = tmp[: -len(".tmp")] + ".bak.tmp"
             try:
-                if backup.exists():
-                    backup.unlink()
-                os.link(path, backup)
+                os.link(path, bak_tmp)
+                os.replace(bak_tmp, path.with_name(path.name + ".bak"))
             except OSError:
                 pass  # a backup is a courtesy; the atomic replace below is the promise
+            # rename() does nothing when both names are links to one file (a .bak made by a save that was
+            # killed before its last step): the temporary name is then still there
+            _unlink_quietly(bak_tmp)
+            bak_tmp = None
         os.replace(tmp, path)
         dir_fd = os.open(folder, os.O_RDONLY)
         try:
@@ -67,11 +80,56 @@ def _write(path: Path, folder: Path, data: bytes, keep_backup: bool) -> None:
         finally:
             os.close(dir_fd)
     except BaseException:
-        try:
-            os.unlink(tmp)
-        except FileNotFoundError:
-            pass
+        for name in (tmp, bak_tmp):
+            if name is not None:
+                _unlink_quietly(name)
         raise
+
+
+def _unlink_quietly(name: str) -> None:
+    try:
+        os.unlink(name)
+    except FileNotFoundError:
+        pass
+
+
+_STALE_UNOWNED_S = 600   # a temporary file with no writer pid in its name (older versions) counts as stale after this
+
+
+def _remove_stale(path: Path, folder: Path) -> None:
+    """Temporary files a killed save of this same file left behind: ``.NAME.PID.XXXXXXXX[.bak].tmp`` whose
+    writer process no longer exists. Files of other names, and saves still running, are left alone."""
+    own = re.compile(rf"\.{re.escape(path.name)}\.(?:(\d+)\.)?[a-z0-9_]{{8}}(?:\.bak)?\.tmp")
+    try:
+        names = [e.name for e in os.scandir(folder) if e.name.startswith(f".{path.name}.") and e.name.endswith(".tmp")]
+    except OSError:
+        return
+    for name in names:
+        m = own.fullmatch(name)
+        if not m:
+            continue
+        stale_path = folder / name
+        try:
+            if m.group(1) is not None:
+                if _alive(int(m.group(1))):
+                    continue
+            elif time.time() - stale_path.stat().st_mtime < _STALE_UNOWNED_S:
+                continue
+            stale_path.unlink()
+        except OSError:
+            pass   # cleaning is a courtesy; the save itself must not fail for it
+
+
+def _alive(pid: int) -> bool:
+    if pid == os.getpid():
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except (PermissionError, OverflowError, ValueError):
+        return True     # someone else's process, or not a pid we can ask about: leave its files alone
+    return True
 
 
 def atomic_write_text(path: str | Path, text: str, *, keep_backup: bool = True) -> None:

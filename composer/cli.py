@@ -4,7 +4,8 @@ Each subcommand lives in its own module exposing ``configure(parser)`` and ``run
 this file only lists them. Errors that are values (:class:`~composer.errors.RowcastError`) become one
 line on stderr and their exit status (2 bad input, 3 device or link); nothing prints a traceback.
 
-Exit codes: 0 ok, 1 the check found violations, 2 bad input or usage, 3 device or link error.
+Exit codes: 0 ok, 1 the check found violations, 2 bad input or usage, 3 device or link error, 70 an
+internal error (a bug in rowcast: one line on stderr, never a traceback, and never confused with 1).
 """
 from __future__ import annotations
 
@@ -13,7 +14,7 @@ import importlib
 import sys
 
 from . import __version__
-from .errors import EXIT_INPUT, RowcastError
+from .errors import EXIT_INPUT, EXIT_INTERNAL, RowcastError, escape_text
 
 __all__ = ["main", "COMMANDS"]
 
@@ -31,10 +32,12 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "ports": ("transport.commands.ports", "list serial ports with descriptions and USB VID:PID"),
     "sim": ("transport.commands.sim", "start the receiver firmware in the AVR simulator"),
     "profiles": ("composer.commands.profiles", "list the bundled hardware profiles"),
+    "demos": ("composer.commands.demos", "list the bundled demo patterns (a name works wherever a pattern file does)"),
     "profile": ("composer.commands.profile_show", "show one resolved, validated profile"),
 }
 
-EPILOG = "exit status: 0 ok, 1 the check found violations, 2 bad input or usage, 3 device or link error"
+EPILOG = ("exit status: 0 ok, 1 the check found violations, 2 bad input or usage, 3 device or link error, "
+          f"{EXIT_INTERNAL} internal error")
 
 
 class _Parser(argparse.ArgumentParser):
@@ -81,6 +84,25 @@ def main(argv: list[str] | None = None) -> int:
         return 130
     except BrokenPipeError:
         return 0
+    except MemoryError:
+        sys.stderr.write(f"rowcast: out of memory (exit status {EXIT_INTERNAL})\n")
+        return EXIT_INTERNAL
+    except Exception as exc:  # noqa: BLE001 - the last line of defence: one line, its own status
+        where = _innermost(exc)
+        sys.stderr.write(f"rowcast: internal error: {type(exc).__name__}: {escape_text(str(exc), 200)}{where} "
+                         f"(a bug in rowcast; please report it with the command and files)\n")
+        return EXIT_INTERNAL
+
+
+def _innermost(exc: BaseException) -> str:
+    """' at module.py:123' for the deepest frame, so a report names where it broke without a traceback."""
+    tb = exc.__traceback__
+    while tb is not None and tb.tb_next is not None:
+        tb = tb.tb_next
+    if tb is None:
+        return ""
+    code = tb.tb_frame.f_code
+    return f" at {code.co_filename.rsplit('/', 1)[-1]}:{tb.tb_lineno}"
 
 
 def _default() -> int:

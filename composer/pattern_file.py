@@ -20,17 +20,17 @@ Reading and writing round-trip exactly.
 from __future__ import annotations
 
 import re
-import tomllib
 from pathlib import Path
 
 import numpy as np
 import tomli_w
 
 from .atomic import atomic_write_text
-from .errors import InputError, did_you_mean
+from .bundled import resolve_pattern_ref
+from .errors import InputError, did_you_mean, escape_text, shorten
 from .model import MAX_FRAMES, MAX_MS, MAX_SIDE, MIN_MS, Animation
 from .profile import Profile, load_profile
-from .textfile import find_key_line, read_text_file
+from .textfile import find_key_line, line_of, parse_toml, read_text_file
 
 __all__ = ["PATTERN_FORMAT", "PATTERN_SUFFIX", "GLYPHS", "parse_pattern", "load_pattern", "dump_pattern",
            "save_pattern", "open_pattern", "frame_to_text", "text_to_frame", "check_fits_profile"]
@@ -44,6 +44,7 @@ for _c, _i in _STATE_OF.items():
     _LUT[ord(_c)] = _i
 _TOP_KEYS = ("format", "name", "profile", "notes", "frame")
 _FRAME_KEYS = ("ms", "leds")
+_FRAME_KEY_SET = set(_FRAME_KEYS)
 
 
 def frame_to_text(frame: np.ndarray) -> str:
@@ -52,82 +53,117 @@ def frame_to_text(frame: np.ndarray) -> str:
 
 
 class _Where:
+    """Finds the line of a frame's key, only when an error needs it (each call scans the text once)."""
+
     def __init__(self, path: str, text: str) -> None:
         self.path, self.text = path, text
-        self._headers = [m.start() for m in re.finditer(r"^\s*\[\[\s*frame\s*\]\]", text, re.M)]
-
-    def line_of(self, offset: int) -> int:
-        return self.text.count("\n", 0, offset) + 1
+        self._headers: list[int] | None = None
 
     def frame_line(self, index: int, key: str | None = None) -> int | None:
+        if self._headers is None:
+            # [ \t]*, not \s*: \s eats newlines and made a file of many blank lines quadratic
+            self._headers = [m.start() for m in re.finditer(r"^[ \t]*\[\[[ \t]*frame[ \t]*\]\]", self.text, re.M)]
         if index >= len(self._headers):
             return None
         start = self._headers[index]
+        stop = self._headers[index + 1] if index + 1 < len(self._headers) else len(self.text)
         if key:
-            m = re.compile(rf"^\s*{key}\s*=", re.M).search(self.text, start)
-            if m and (index + 1 >= len(self._headers) or m.start() < self._headers[index + 1]):
-                return self.line_of(m.start())
-        return self.line_of(start)
+            m = re.compile(rf"^[ \t]*{re.escape(key)}[ \t]*=", re.M).search(self.text, start, stop)
+            if m:
+                return line_of(self.text, m.start())
+        return line_of(self.text, start)
 
     def fail(self, message: str, *, where: str | None = None, line: int | None = None) -> InputError:
         return InputError(message, path=self.path, where=where, line=line)
 
 
-def text_to_frame(block: str, *, where: _Where | None = None, index: int = 0) -> np.ndarray:
-    """Parse one ``leds`` block to a (rows, cols) array of states."""
-    w = where or _Where("<pattern>", "")
+def _block_problem(block: str) -> tuple[int | None, str] | None:
+    """What is wrong with one ``leds`` block, as (row, message), or None. Used only once the fast whole-file
+    check has failed, to name the place."""
     lines = block.strip().split("\n")
-    label = f"frame {index}"
-    base = w.frame_line(index, "leds")
-    first_row_line = None
-    if base is not None:
-        # TOML drops the newline right after an opening """, so the block's first row sits one line
-        # below ``leds =`` when the key line ends there, plus any blank lines the block starts with.
-        key_line = w.text.split("\n")[base - 1].rstrip()
-        opens_alone = key_line.endswith('"""') or key_line.endswith("'''")
-        stripped = block[: len(block) - len(block.lstrip())]
-        first_row_line = base + int(opens_alone) + stripped.count("\n")
     if lines == [""]:
-        raise w.fail("leds is empty", where=label, line=base)
+        return None, "leds is empty"
     if len(lines) > MAX_SIDE:
-        raise w.fail(f"{len(lines)} rows: at most {MAX_SIDE}", where=label, line=base)
+        return None, f"{len(lines)} rows: at most {MAX_SIDE}"
     width = len(lines[0])
     for r, text in enumerate(lines):
-        line = None if first_row_line is None else first_row_line + r
         if len(text) > MAX_SIDE:
-            raise w.fail(f"{len(text)} LEDs in a row: at most {MAX_SIDE}", where=f"{label} row {r}", line=line)
+            return r, f"{len(text)} LEDs in a row: at most {MAX_SIDE}"
         bad = re.search(r"\s", text)
         if bad:
-            raise w.fail(f"whitespace inside the LED block at column {bad.start()}", where=f"{label} row {r}",
-                         line=line)
+            return r, f"whitespace inside the LED block at column {bad.start()}"
         if len(text) != width:
-            raise w.fail(f"row has {len(text)} LEDs, row 0 has {width}", where=f"{label} row {r}", line=line)
+            return r, f"row has {len(text)} LEDs, row 0 has {width}"
         for c, ch in enumerate(text):
             if ch not in _STATE_OF:
-                raise w.fail(f"character {ch!r} at column {c} is not one of . r g a", where=f"{label} row {r}",
-                             line=line)
-    data = np.frombuffer("".join(lines).encode("ascii"), np.uint8)
-    return _LUT[data].reshape(len(lines), width)
+                return r, f"character '{escape_text(ch)}' at column {c} is not one of . r g a"
+    return None
+
+
+def _fail_block(block: str, problem: tuple[int | None, str], w: _Where, index: int) -> InputError:
+    row, message = problem
+    label = f"frame {index}"
+    base = w.frame_line(index, "leds")
+    if row is None or base is None:
+        return w.fail(message, where=label, line=base)
+    # TOML drops the newline right after an opening """, so the block's first row sits one line below
+    # ``leds =`` when the key line ends there, plus any blank lines the block starts with.
+    key_line = w.text.split("\n", base)[base - 1].rstrip()
+    opens_alone = key_line.endswith('"""') or key_line.endswith("'''")
+    leading = block[: len(block) - len(block.lstrip())]
+    return w.fail(message, where=f"{label} row {row}", line=base + int(opens_alone) + leading.count("\n") + row)
+
+
+def text_to_frame(block: str, *, where: _Where | None = None, index: int = 0) -> np.ndarray:
+    """Parse one ``leds`` block to a (rows, cols) array of states."""
+    frames = _fast_frames([block])
+    if frames is not None:
+        return frames[0]
+    problem = _block_problem(block)
+    assert problem is not None, "the fast check and the slow one disagree"
+    raise _fail_block(block, problem, where or _Where("<pattern>", ""), index)
+
+
+_NEWLINE = ord("\n")
+
+
+def _fast_frames(blocks: list[str]) -> np.ndarray | None:
+    """All blocks as one ``(F, rows, cols)`` array when every one is well formed and of frame 0's size, else
+    None. One join, one encode and a few numpy passes over the whole file's LEDs: linear in the file."""
+    stripped = [b.strip() for b in blocks]
+    first = stripped[0]
+    cols = first.find("\n")
+    cols = len(first) if cols < 0 else cols
+    rows = first.count("\n") + 1
+    if not (1 <= rows <= MAX_SIDE and 1 <= cols <= MAX_SIDE):
+        return None
+    data = np.frombuffer(("\n".join(stripped) + "\n").encode("utf-8"), np.uint8)
+    if data.size != len(blocks) * rows * (cols + 1):
+        return None
+    grid = data.reshape(len(blocks), rows, cols + 1)
+    if not (grid[:, :, cols] == _NEWLINE).all():
+        return None
+    frames = _LUT[grid[:, :, :cols]]
+    if (frames == 255).any():
+        return None
+    return frames
 
 
 def parse_pattern(text: str, path: str = "<pattern>") -> Animation:
     w = _Where(path, text)
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise w.fail(f"not valid TOML: {exc}") from None
+    data = parse_toml(text, path)
     for key in data:
         if key not in _TOP_KEYS:
-            raise w.fail(f"unknown key{did_you_mean(key, _TOP_KEYS)}", where=key, line=find_key_line(text, key))
+            raise w.fail(f"unknown key{did_you_mean(key[:100], _TOP_KEYS)}", where=escape_text(key, 60),
+                         line=find_key_line(text, key))
     for key in ("format", "name", "profile", "frame"):
         if key not in data:
             raise w.fail("missing key" if key != "frame" else "no [[frame]] tables", where=key)
     for key in ("format", "name", "profile", "notes"):
         if key in data and not isinstance(data[key], str):
-            raise w.fail(f"must be a string, got {type(data[key]).__name__}", where=key,
-                         line=find_key_line(text, key))
+            raise w.fail(f"must be a string, got {shorten(data[key])}", where=key, line=find_key_line(text, key))
     if data["format"] != PATTERN_FORMAT:
-        raise w.fail(f'"{data["format"]}" is not "{PATTERN_FORMAT}"', where="format",
+        raise w.fail(f'{shorten(data["format"])} is not "{PATTERN_FORMAT}"', where="format",
                      line=find_key_line(text, "format"))
     if not data["profile"]:
         raise w.fail("must name a profile", where="profile", line=find_key_line(text, "profile"))
@@ -138,32 +174,48 @@ def parse_pattern(text: str, path: str = "<pattern>") -> Animation:
         raise w.fail("no frames", where="frame")
     if len(frames_raw) > MAX_FRAMES:
         raise w.fail(f"{len(frames_raw)} frames: a pattern holds at most {MAX_FRAMES}", where="frame")
-    frames, durations = [], []
+    durations, blocks = [], []
     for i, table in enumerate(frames_raw):
         label = f"frame {i}"
-        for key in table:
-            if key not in _FRAME_KEYS:
-                raise w.fail(f"unknown key{did_you_mean(key, _FRAME_KEYS)}", where=f"{label}.{key}",
-                             line=w.frame_line(i, re.escape(key)))
-        for key in _FRAME_KEYS:
-            if key not in table:
-                raise w.fail("missing key", where=f"{label}.{key}", line=w.frame_line(i))
+        if table.keys() != _FRAME_KEY_SET:
+            for key in table:
+                if key not in _FRAME_KEYS:
+                    raise w.fail(f"unknown key{did_you_mean(key[:100], _FRAME_KEYS)}",
+                                 where=f"{label}.{escape_text(key, 60)}", line=w.frame_line(i, key))
+            missing = next(k for k in _FRAME_KEYS if k not in table)
+            raise w.fail("missing key", where=f"{label}.{missing}", line=w.frame_line(i))
         ms = table["ms"]
         if not isinstance(ms, int) or isinstance(ms, bool):
-            raise w.fail(f"must be a whole number of milliseconds, got {ms!r}", where=f"{label}.ms",
+            raise w.fail(f"must be a whole number of milliseconds, got {shorten(ms)}", where=f"{label}.ms",
                          line=w.frame_line(i, "ms"))
         if not MIN_MS <= ms <= MAX_MS:
-            raise w.fail(f"{ms} ms is outside {MIN_MS}..{MAX_MS}", where=f"{label}.ms", line=w.frame_line(i, "ms"))
+            raise w.fail(f"{shorten(ms)} ms is outside {MIN_MS}..{MAX_MS}", where=f"{label}.ms",
+                         line=w.frame_line(i, "ms"))
         if not isinstance(table["leds"], str):
             raise w.fail("must be a multi-line string", where=f"{label}.leds", line=w.frame_line(i, "leds"))
-        frame = text_to_frame(table["leds"], where=w, index=i)
-        if frames and frame.shape != frames[0].shape:
-            raise w.fail(f"is {frame.shape[0]}x{frame.shape[1]}, frame 0 is "
-                         f"{frames[0].shape[0]}x{frames[0].shape[1]}", where=label, line=w.frame_line(i, "leds"))
-        frames.append(frame)
         durations.append(ms)
-    return Animation(np.stack(frames), np.array(durations), name=data["name"], notes=data.get("notes", ""),
+        blocks.append(table["leds"])
+    frames = _fast_frames(blocks)
+    if frames is None:
+        frames = _slow_frames(blocks, w)
+    return Animation(frames, np.array(durations), name=data["name"], notes=data.get("notes", ""),
                      profile=data["profile"])
+
+
+def _slow_frames(blocks: list[str], w: _Where) -> np.ndarray:
+    """Frame by frame, to name the first bad frame, row and line (the error path)."""
+    shape = None
+    for i, block in enumerate(blocks):
+        problem = _block_problem(block)
+        if problem is not None:
+            raise _fail_block(block, problem, w, i)
+        lines = block.strip().split("\n")
+        if shape is None:
+            shape = (len(lines), len(lines[0]))
+        elif (len(lines), len(lines[0])) != shape:
+            raise w.fail(f"is {len(lines)}x{len(lines[0])}, frame 0 is {shape[0]}x{shape[1]}", where=f"frame {i}",
+                         line=w.frame_line(i, "leds"))
+    raise AssertionError("the fast frame check refused frames the slow check accepts")
 
 
 def load_pattern(path: str | Path) -> Animation:
@@ -171,12 +223,15 @@ def load_pattern(path: str | Path) -> Animation:
 
 
 def dump_pattern(anim: Animation) -> str:
-    doc: dict = {"format": PATTERN_FORMAT, "name": anim.name, "profile": anim.profile}
+    head: dict = {"format": PATTERN_FORMAT, "name": anim.name, "profile": anim.profile}
     if anim.notes:
-        doc["notes"] = anim.notes
-    doc["frame"] = [{"ms": int(ms), "leds": frame_to_text(f) + "\n"}
-                    for f, ms in zip(anim.frames, anim.durations_ms)]
-    return tomli_w.dumps(doc, multiline_strings=True)
+        head["notes"] = anim.notes
+    # A multi-line string cannot keep a carriage return (TOML folds CRLF in """ strings), so text holding
+    # one is written escaped on one line; the frames always use multi-line strings.
+    multiline = not any("\r" in v for v in head.values())
+    frames = {"frame": [{"ms": int(ms), "leds": frame_to_text(f) + "\n"}
+                        for f, ms in zip(anim.frames, anim.durations_ms)]}
+    return tomli_w.dumps(head, multiline_strings=multiline) + "\n" + tomli_w.dumps(frames, multiline_strings=True)
 
 
 def save_pattern(anim: Animation, path: str | Path) -> None:
@@ -191,11 +246,12 @@ def check_fits_profile(anim: Animation, profile: Profile, path: str | Path | Non
 
 
 def open_pattern(path: str | Path, profile: str | Path | None = None) -> tuple[Animation, Profile]:
-    """Load a pattern and its profile (``profile`` overrides the file's), checked to fit each other.
+    """Load a pattern (a file, or a bundled demo by name) and its profile (``profile`` overrides the file's),
+    checked to fit each other.
 
     The file's own profile reference is resolved relative to the pattern's folder.
     """
-    path = Path(path)
+    path = resolve_pattern_ref(path)
     anim = load_pattern(path)
     prof = load_profile(profile) if profile is not None else load_profile(anim.profile, relative_to=path.parent)
     check_fits_profile(anim, prof, path)

@@ -12,19 +12,18 @@ file stem.
 from __future__ import annotations
 
 import math
-import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Mapping
 
 from .bundled import data_path
-from .errors import InputError, did_you_mean
-from .textfile import find_key_line, read_text_file
+from .errors import InputError, did_you_mean, escape_text, shorten
+from .textfile import find_where_line, parse_toml, read_text_file
 
 __all__ = [
     "Profile", "Panel", "Register", "Chain", "Supply", "Led", "Resistor", "Resistors", "RowDriver",
     "ColumnRegister", "Scan", "Safety", "SCHEMA", "COLOURS", "load_profile", "parse_profile",
-    "bundled_profiles", "resolve_profile_ref", "PROFILE_FORMAT", "PROFILES_DIR", "profile_to_dict",
+    "bundled_profiles", "resolve_profile_ref", "PROFILE_FORMAT", "PROFILES_DIR", "profile_to_dict", "profile_error",
 ]
 
 PROFILE_FORMAT = "rowcast-profile/1"
@@ -46,22 +45,38 @@ class Key:
     optional: bool = False       # may be absent with no default
     choices: tuple = ()
     low: float | None = None     # inclusive unless low_open
-    high: float | None = None
+    high: float | None = None    # inclusive; for "str" the most characters, for "points" the most mA
     low_open: bool = False
+    high_v: float | None = None  # "points": the most volts
 
 
 def _k(name, kind, unit="", doc="", **kw) -> Key:
     return Key(name, kind, unit, doc, **kw)
 
 
-_POS = dict(low=0.0, low_open=True)
-_NONNEG = dict(low=0.0)
+def _pos(high: float) -> dict:
+    return dict(low=0.0, low_open=True, high=high)
+
+
+def _nonneg(high: float) -> dict:
+    return dict(low=0.0, high=high)
+
+
+# Physical bounds. Every number is bounded so that nothing downstream can overflow or divide by zero, and
+# each bound is far outside what a real part of this kind shows (sources beside each):
+_MAX_V = 60.0          # supply: the extra-low-voltage d.c. limit (IEC 61140 / IEC 60449 band I, from memory)
+_MAX_VF_V = 10.0       # one LED die, visible colours 1.6-4 V (from memory); 10 V leaves room for stacked dies
+_MAX_MA = 10_000.0     # 10 A through one LED, output or channel: above any small-signal part (common practice)
+_MAX_BUDGET_MA = 100_000.0
+_MAX_OHM = 1e6
+_MAX_US = 65_535.0     # a row slot travels in a 16-bit field of CONFIGURE (transport/PROTOCOL.md)
+_MAX_POINTS = 32
 
 SCHEMA: dict[str, tuple[Key, ...]] = {
     "": (
         _k("format", "choice", doc="file format tag", choices=(PROFILE_FORMAT,)),
-        _k("name", "str", doc="short name of the panel"),
-        _k("description", "str", doc="free text", default=""),
+        _k("name", "str", doc="short name of the panel", high=100),
+        _k("description", "str", doc="free text", default="", high=2000),
     ),
     "panel": (
         _k("rows", "int", doc="scanned rows (the common side)", low=1, high=256),
@@ -76,46 +91,51 @@ SCHEMA: dict[str, tuple[Key, ...]] = {
            default="far-end", choices=("far-end", "near-end")),
     ),
     "chain.register": (
-        _k("name", "str", doc="label used in reports", default=""),
+        _k("name", "str", doc="label used in reports", default="", high=40),
         _k("drives", "choice", doc="what the eight outputs drive", choices=("rows", "red", "green")),
-        _k("lines", "lines", doc="output Q0..Q7 -> row or column index; -1 = not connected"),
+        _k("lines", "lines", doc="output Q0..Q7 -> row or column index; -1 = not connected", low=-1,
+           high=255),
         _k("active", "choice", doc="output level that turns the line on", choices=("high", "low")),
     ),
     "supply": (
-        _k("voltage_v", "float", "V", "nominal supply voltage", **_POS),
+        _k("voltage_v", "float", "V", "nominal supply voltage", **_pos(_MAX_V)),
         _k("tolerance_pct", "float", "%", "supply tolerance (stress corner uses the top)", default=5.0,
            low=0.0, high=50.0),
-        _k("budget_ma", "float", "mA", "what the supply may deliver (USB 2.0 port: 500 mA)", **_POS),
+        _k("budget_ma", "float", "mA", "what the supply may deliver (USB 2.0 port: 500 mA)",
+           **_pos(_MAX_BUDGET_MA)),
     ),
     "led": (
-        _k("vf_min_v", "float", "V", "lowest forward voltage at the test current", **_POS),
-        _k("vf_typ_v", "float", "V", "typical forward voltage at the test current", **_POS),
-        _k("vf_max_v", "float", "V", "highest forward voltage at the test current", **_POS),
-        _k("test_current_ma", "float", "mA", "datasheet test current for the forward voltages", **_POS),
-        _k("max_continuous_ma", "float", "mA", "absolute maximum continuous (average) current", **_POS),
-        _k("max_peak_ma", "float", "mA", "absolute maximum pulsed peak current", **_POS),
+        _k("vf_min_v", "float", "V", "lowest forward voltage at the test current", **_pos(_MAX_VF_V)),
+        _k("vf_typ_v", "float", "V", "typical forward voltage at the test current", **_pos(_MAX_VF_V)),
+        _k("vf_max_v", "float", "V", "highest forward voltage at the test current", **_pos(_MAX_VF_V)),
+        _k("test_current_ma", "float", "mA", "datasheet test current for the forward voltages", low=0.01,
+           high=1000.0),
+        _k("max_continuous_ma", "float", "mA", "absolute maximum continuous (average) current",
+           **_pos(_MAX_MA)),
+        _k("max_peak_ma", "float", "mA", "absolute maximum pulsed peak current", **_pos(_MAX_MA)),
         _k("peak_duty", "float", "", "duty at which the peak rating is given (0-1]", low=0.0,
            low_open=True, high=1.0),
-        _k("peak_pulse_us", "float", "us", "pulse width at which the peak rating is given", **_POS),
+        _k("peak_pulse_us", "float", "us", "pulse width at which the peak rating is given", **_pos(1e6)),
         _k("iv_points", "points", "mA,V", "typical I-V curve points [[mA, V], ...] read off the "
-           "datasheet; used to fit the diode model", optional=True),
+           "datasheet; used to fit the diode model", optional=True, high=_MAX_MA, high_v=_MAX_VF_V),
         _k("dominant_wavelength_nm", "float", "nm", "dominant wavelength (datasheet typical); the colour "
            "of the as-lit pictures", optional=True, low=380.0, high=780.0),
+        # 1,000 cd: far above any indicator or dot-matrix die (from memory: tens to thousands of mcd)
         _k("intensity_mcd", "float", "mcd", "luminous intensity at the test current (datasheet typical); "
-           "the brightness of the as-lit pictures", optional=True, **_POS),
+           "the brightness of the as-lit pictures", optional=True, **_pos(1e6)),
         _k("relative_intensity_points", "points", "mA,rel", "relative luminous intensity against "
            "forward current [[mA, relative], ...] read off the datasheet's curve (scaled to pass through "
            "intensity_mcd at the test current); without it intensity is proportional to current",
-           optional=True),
+           optional=True, high=_MAX_MA, high_v=100.0),
     ),
     "resistor": (
         _k("placement", "choice", doc="column: one resistor per column line; row: one resistor per "
            "row shared by that row's LEDs", choices=("column", "row")),
     ),
     "resistor.part": (
-        _k("ohms", "float", "ohm", "resistance", **_POS),
+        _k("ohms", "float", "ohm", "resistance", **_pos(_MAX_OHM)),
         _k("tolerance_pct", "float", "%", "resistance tolerance", default=5.0, low=0.0, high=50.0),
-        _k("power_w", "float", "W", "power rating", **_POS),
+        _k("power_w", "float", "W", "power rating", **_pos(100.0)),
     ),
     "row_driver": (
         _k("kind", "choice", doc="source (high side, common anode) or sink (low side, common cathode)",
@@ -123,34 +143,42 @@ SCHEMA: dict[str, tuple[Key, ...]] = {
         _k("channels", "int", doc="channels per driver package", low=1, high=64),
         _k("drop_model", "choice", doc="log-linear: V = a + b*ln(I/1mA) + c*I; linear: V = v0 + r*I; "
            "table: piecewise-linear [[mA, V], ...]", choices=("log-linear", "linear", "table")),
-        _k("drop_a_v", "float", "V", "log-linear: drop at 1 mA", optional=True, **_NONNEG),
-        _k("drop_b_v", "float", "V", "log-linear: volts per e-fold of current", optional=True, **_NONNEG),
-        _k("drop_c_ohm", "float", "ohm", "log-linear: series resistance", optional=True, **_NONNEG),
-        _k("drop_v0_v", "float", "V", "linear: fixed drop", optional=True, **_NONNEG),
-        _k("drop_r_ohm", "float", "ohm", "linear: on-resistance", optional=True, **_NONNEG),
-        _k("drop_table", "points", "mA,V", "table: [[mA, V], ...] rising in mA", optional=True),
-        _k("channel_abs_max_ma", "float", "mA", "per-channel absolute maximum current", **_POS),
-        _k("theta_ja_c_per_w", "float", "C/W", "package thermal resistance junction to ambient", **_POS),
-        _k("tj_max_c", "float", "C", "maximum junction temperature"),
-        _k("ambient_c", "float", "C", "ambient temperature around the board", default=25.0),
+        _k("drop_a_v", "float", "V", "log-linear: drop at 1 mA", optional=True, **_nonneg(_MAX_VF_V)),
+        _k("drop_b_v", "float", "V", "log-linear: volts per e-fold of current", optional=True,
+           **_nonneg(2.0)),
+        _k("drop_c_ohm", "float", "ohm", "log-linear: series resistance", optional=True, **_nonneg(1000.0)),
+        _k("drop_v0_v", "float", "V", "linear: fixed drop", optional=True, **_nonneg(_MAX_VF_V)),
+        _k("drop_r_ohm", "float", "ohm", "linear: on-resistance", optional=True, **_nonneg(1000.0)),
+        _k("drop_table", "points", "mA,V", "table: [[mA, V], ...] rising in mA", optional=True,
+           high=_MAX_MA, high_v=_MAX_VF_V),
+        _k("channel_abs_max_ma", "float", "mA", "per-channel absolute maximum current", **_pos(_MAX_MA)),
+        _k("theta_ja_c_per_w", "float", "C/W", "package thermal resistance junction to ambient",
+           **_pos(1000.0)),
+        # silicon parts are rated 125-175 C (from memory); 250 C leaves room for wide-bandgap parts
+        _k("tj_max_c", "float", "C", "maximum junction temperature", low=25.0, high=250.0),
+        # -55..125 C: the widest temperature grade of common parts (from memory)
+        _k("ambient_c", "float", "C", "ambient temperature around the board", default=25.0, low=-55.0,
+           high=125.0),
     ),
     "column_register": (
-        _k("pin_abs_max_ma", "float", "mA", "per-output absolute maximum current", **_POS),
-        _k("package_abs_max_ma", "float", "mA", "per-package supply or ground pin maximum", **_POS),
-        _k("r_on_ohm", "float", "ohm", "output on-resistance (sink or source)", **_NONNEG),
+        _k("pin_abs_max_ma", "float", "mA", "per-output absolute maximum current", **_pos(_MAX_MA)),
+        _k("package_abs_max_ma", "float", "mA", "per-package supply or ground pin maximum",
+           **_pos(_MAX_BUDGET_MA)),
+        _k("r_on_ohm", "float", "ohm", "output on-resistance (sink or source)", **_nonneg(10_000.0)),
     ),
     "scan": (
         _k("row_period_us", "float", "us", "time slot of one row (give this or refresh_hz)",
-           optional=True, **_POS),
-        _k("refresh_hz", "float", "Hz", "target full-frame refresh (give this or row_period_us)",
-           optional=True, **_POS),
+           optional=True, low=1.0, high=_MAX_US),
+        _k("refresh_hz", "float", "Hz", "target full-frame refresh (give this or row_period_us); the row "
+           "slot it gives must lie in row_period_us's range", optional=True, low=1.0, high=1e6),
         _k("blanking_us", "float", "us", "outputs off at the start of each row slot", default=0.0,
-           **_NONNEG),
-        _k("shift_clock_hz", "float", "Hz", "serial clock into the chain", **_POS),
+           **_nonneg(_MAX_US)),
+        # 74HC595-class parts shift at tens of MHz at most (from memory)
+        _k("shift_clock_hz", "float", "Hz", "serial clock into the chain", low=1.0, high=1e9),
     ),
     "safety": (
         _k("flash_area_fraction", "float", "", "share of the central 10 degree field the panel may "
-           "cover (1.0 = conservatively all of it)", default=1.0, low=0.0, high=1.0),
+           "cover (1.0 = conservatively all of it)", default=1.0, low=0.0, low_open=True, high=1.0),
     ),
 }
 
@@ -298,8 +326,18 @@ class _Ctx:
         self.text = text
 
     def fail(self, where: str, message: str) -> InputError:
-        leaf = where.rsplit(".", 1)[-1].split("[")[0]
-        return InputError(message, path=self.path, where=where, line=find_key_line(self.text, leaf))
+        return InputError(message, path=self.path, where=where, line=find_where_line(self.text, where))
+
+
+def profile_error(profile: "Profile", where: str, message: str) -> InputError:
+    """An error about a validated profile found later (by the engine): it names the profile's file and the
+    key's line like every other profile error (the file is read again, only on this error path)."""
+    line = None
+    try:
+        line = find_where_line(read_text_file(profile.source), where)
+    except InputError:
+        pass
+    return InputError(message, path=profile.source, where=where, line=line)
 
 
 def _is_number(value: Any) -> bool:
@@ -310,19 +348,26 @@ def _check_value(ctx: _Ctx, where: str, key: Key, value: Any) -> Any:
     kind = key.kind
     if kind in ("str", "choice"):
         if not isinstance(value, str):
-            raise ctx.fail(where, f"must be a string, got {type(value).__name__}")
+            raise ctx.fail(where, f"must be a string, got {_type_name(value)}")
         if kind == "choice" and value not in key.choices:
             options = ", ".join(f'"{c}"' for c in key.choices)
-            raise ctx.fail(where, f'"{value}" is not one of {options}{did_you_mean(value, key.choices)}')
+            raise ctx.fail(where, f'{shorten(value)} is not one of {options}{did_you_mean(value[:100], key.choices)}')
+        if kind == "str":
+            if key.high is not None and len(value) > key.high:
+                raise ctx.fail(where, f"is {len(value)} characters long, at most {key.high:g}")
+            if not value.replace("\n", " ").replace("\t", " ").isprintable():
+                raise ctx.fail(where, f"holds control or formatting characters: {shorten(value)}")
         return value
     if kind == "int":
         if not isinstance(value, int) or isinstance(value, bool):
-            raise ctx.fail(where, f"must be a whole number, got {value!r}")
+            raise ctx.fail(where, f"must be a whole number, got {shorten(value)}")
         _check_range(ctx, where, key, value)
         return value
     if kind == "float":
         if not _is_number(value):
-            raise ctx.fail(where, f"must be a number{_unit(key)}, got {value!r}")
+            raise ctx.fail(where, f"must be a number{_unit(key)}, got {shorten(value)}")
+        if isinstance(value, int) and value.bit_length() > 64:
+            raise ctx.fail(where, f"must be {_range_text(key)}{_unit(key)}, got {shorten(value)}")
         value = float(value)
         if not math.isfinite(value):
             raise ctx.fail(where, f"must be a finite number, got {value!r}")
@@ -333,19 +378,21 @@ def _check_value(ctx: _Ctx, where: str, key: Key, value: Any) -> Any:
                 or not all(isinstance(v, int) and not isinstance(v, bool) for v in value)):
             raise ctx.fail(where, "must be a list of 8 whole numbers (output Q0..Q7 -> line, -1 = "
                            "not connected)")
+        for q, v in enumerate(value):
+            if not key.low <= v <= key.high:
+                raise ctx.fail(where, f"Q{q} -> {shorten(v)}: each line must be {_range_text(key)}")
         return tuple(value)
     if kind == "points":
-        ok = isinstance(value, list) and len(value) >= 2 and all(
-            isinstance(p, list) and len(p) == 2 and all(_is_number(x) and math.isfinite(x) for x in p)
-            for p in value)
+        ok = isinstance(value, list) and 2 <= len(value) <= _MAX_POINTS and all(
+            isinstance(p, list) and len(p) == 2 and all(_is_number(x) for x in p) for p in value)
         # the second number of a pair: a voltage ("mA,V") or a relative intensity ("mA,rel")
-        volts = key.unit.endswith(",V")
-        pair, what, whats = ("V", "voltage", "voltages") if volts else ("relative", "intensity", "intensities")
+        pair, what = ("V", "voltage") if key.unit.endswith(",V") else ("relative", "intensity")
         if not ok:
-            raise ctx.fail(where, f"must be a list of at least two [mA, {pair}] pairs of numbers")
+            raise ctx.fail(where, f"must be a list of 2 to {_MAX_POINTS} [mA, {pair}] pairs of numbers")
+        for a, b in value:
+            if not (0 < a <= key.high and 0 < b <= key.high_v):   # also false for NaN
+                raise ctx.fail(where, f"point [{shorten(a)}, {shorten(b)}]: points must have {_range_text(key)}")
         pts = tuple((float(a), float(b)) for a, b in value)
-        if any(a <= 0 for a, _ in pts) or any(b2 <= 0 for _, b2 in pts):
-            raise ctx.fail(where, f"currents and {whats} must be above zero")
         if any(pts[i + 1][0] <= pts[i][0] for i in range(len(pts) - 1)):
             raise ctx.fail(where, "points must rise in current")
         if any(pts[i + 1][1] < pts[i][1] for i in range(len(pts) - 1)):
@@ -354,18 +401,44 @@ def _check_value(ctx: _Ctx, where: str, key: Key, value: Any) -> Any:
     raise AssertionError(kind)
 
 
+def _type_name(value: Any) -> str:
+    return {bool: "a boolean", int: "a whole number", float: "a number", str: "a string", list: "an array",
+            dict: "a table"}.get(type(value), type(value).__name__)
+
+
 def _unit(key: Key) -> str:
-    return f" in {key.unit}" if key.unit else ""
+    return f" {key.unit}" if key.unit and key.kind == "float" else ""
+
+
+def _range_text(key: Key) -> str:
+    """The bounds of a key in words, as the README table and the errors show them."""
+    if key.kind == "points":
+        pair = "V" if key.unit.endswith(",V") else "relative"
+        return (f"mA above 0 and at most {_num(key.high)}, {pair} above 0 and at most {_num(key.high_v)}, 2 to "
+                f"{_MAX_POINTS} points")
+    if key.kind == "str":
+        return f"at most {_num(key.high)} characters" if key.high is not None else ""
+    if key.low is None and key.high is None:
+        return ""
+    if key.low_open:
+        return f"above {_num(key.low)} and at most {_num(key.high)}"
+    return f"{_num(key.low)} to {_num(key.high)}"
+
+
+def _num(x: float) -> str:
+    return f"{x:g}" if abs(x) < 1e6 else f"{x:.0f}"
 
 
 def _check_range(ctx: _Ctx, where: str, key: Key, value: float) -> None:
-    if key.low is not None:
-        if key.low_open and not value > key.low:
-            raise ctx.fail(where, f"must be above {key.low:g}{_unit(key)}, got {value:g}")
-        if not key.low_open and value < key.low:
-            raise ctx.fail(where, f"must be at least {key.low:g}{_unit(key)}, got {value:g}")
-    if key.high is not None and value > key.high:
-        raise ctx.fail(where, f"must be at most {key.high:g}{_unit(key)}, got {value:g}")
+    low_ok = key.low is None or (value > key.low if key.low_open else value >= key.low)
+    high_ok = key.high is None or value <= key.high
+    if not low_ok:
+        side = f"above {_num(key.low)}" if key.low_open else f"at least {_num(key.low)}"
+    elif not high_ok:
+        side = f"at most {_num(key.high)}"
+    else:
+        return
+    raise ctx.fail(where, f"must be {side}{_unit(key)} (range {_range_text(key)}), got {shorten(value)}{_unit(key)}")
 
 
 def _section(ctx: _Ctx, table: Any, prefix: str, schema_name: str, *,
@@ -377,8 +450,9 @@ def _section(ctx: _Ctx, table: Any, prefix: str, schema_name: str, *,
     known = [k.name for k in keys] + list(extra)
     for name in table:
         if name not in known:
-            where = f"{prefix}.{name}" if prefix else name
-            raise ctx.fail(where, f"unknown key{did_you_mean(name, known)}")
+            shown = escape_text(name, 60)
+            where = f"{prefix}.{shown}" if prefix else shown
+            raise ctx.fail(where, f"unknown key{did_you_mean(name[:100], known)}")
     out: dict[str, Any] = {}
     for key in keys:
         where = f"{prefix}.{key.name}" if prefix else key.name
@@ -402,10 +476,7 @@ def _need(ctx: _Ctx, table: dict, name: str, prefix: str) -> Any:
 def parse_profile(text: str, path: str = "<profile>") -> Profile:
     """Validate profile TOML text; every problem raises one :class:`InputError`."""
     ctx = _Ctx(path, text)
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"not valid TOML: {exc}", path=path) from None
+    data = parse_toml(text, path)
     top = _section(ctx, data, "", "", extra=_SECTIONS_TOP)
     for name in _SECTIONS_TOP:
         if name not in data and name not in _OPTIONAL_SECTIONS:
@@ -478,6 +549,10 @@ def parse_profile(text: str, path: str = "<profile>") -> Profile:
     if (sc["row_period_us"] is None) == (sc["refresh_hz"] is None):
         raise ctx.fail("scan.row_period_us", "give exactly one of row_period_us and refresh_hz")
     row_period = sc["row_period_us"] or 1e6 / (sc["refresh_hz"] * panel.rows)
+    slot = next(k for k in SCHEMA["scan"] if k.name == "row_period_us")
+    if not slot.low <= row_period <= slot.high:
+        raise ctx.fail("scan.refresh_hz", f"{sc['refresh_hz']:g} Hz over {panel.rows} rows gives a row slot of "
+                       f"{_num(round(row_period, 3))} us, outside {_range_text(slot)} us")
     if sc["blanking_us"] >= row_period:
         raise ctx.fail("scan.blanking_us", f"blanking {sc['blanking_us']:g} us fills the whole row slot "
                        f"of {row_period:g} us")
@@ -550,12 +625,16 @@ def resolve_profile_ref(ref: str | Path, *, relative_to: Path | None = None) -> 
         names = bundled_profiles()
         if text in names:
             return names[text]
-        raise InputError(f'no bundled profile "{text}"{did_you_mean(text, names)}; bundled: '
+        raise InputError(f'no bundled profile {shorten(text)}{did_you_mean(text[:100], names)}; bundled: '
                          f'{", ".join(sorted(names))}')
     path = Path(text)
     if not path.is_absolute() and relative_to is not None:
         path = relative_to / path
-    if not path.is_file():
+    try:
+        found = path.is_file()
+    except (OSError, ValueError):   # a name too long for the system, or holding a NUL
+        found = False
+    if not found:
         raise InputError("profile file not found", path=path)
     return path
 
@@ -603,7 +682,7 @@ def schema_markdown() -> str:
     titles = {"": "(top level)", "chain.register": "[[chain.register]] (one per register, nearest the "
               "microcontroller first)", "led": "[led.red] and [led.green]", "resistor.part":
               "[resistor.red] / [resistor.green] (placement column) or [resistor.row] (placement row)"}
-    out = ["| table | key | unit | default | meaning |", "|---|---|---|---|---|"]
+    out = ["| table | key | unit | range | default | meaning |", "|---|---|---|---|---|---|"]
     for section, keys in SCHEMA.items():
         title = titles.get(section, f"[{section}]")
         for key in keys:
@@ -616,7 +695,7 @@ def schema_markdown() -> str:
             meaning = key.doc
             if key.choices:
                 meaning += " (" + ", ".join(f"`{c}`" for c in key.choices) + ")"
-            out.append(f"| {title} | `{key.name}` | {key.unit} | {default} | {meaning} |")
+            out.append(f"| {title} | `{key.name}` | {key.unit} | {_range_text(key)} | {default} | {meaning} |")
     return "\n".join(out)
 
 

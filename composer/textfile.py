@@ -1,13 +1,17 @@
-"""Reading user text files safely: one clear error for missing, binary or undecodable files."""
+"""Reading user text files safely: one clear error for missing, binary, undecodable or unparsable files,
+and values shown in errors shortened and escaped so no file can flood or garble a terminal."""
 from __future__ import annotations
 
 import re
+import sys
+import tomllib
 from pathlib import Path
+from typing import Any
 
-from .errors import InputError
+from .errors import InputError, shorten
 from .model import MAX_FRAMES, MAX_SIDE
 
-__all__ = ["read_text_file", "find_key_line", "MAX_FILE_BYTES"]
+__all__ = ["read_text_file", "parse_toml", "find_key_line", "find_where_line", "line_of", "MAX_FILE_BYTES", "shorten"]
 
 # The largest legal pattern must be readable: MAX_FRAMES frames of MAX_SIDE rows of MAX_SIDE LEDs, each row
 # ended by CRLF, plus a frame's own lines (about 40 bytes; 256 allowed) and 1 MiB for the header and notes.
@@ -46,10 +50,77 @@ def read_text_file(path: str | Path) -> str:
     return text.replace("\r\n", "\n")
 
 
+# Python refuses to turn a decimal string of more than this many digits into an int (CVE-2020-10735
+# mitigation, sys.get_int_max_str_digits); tomllib then raises a bare ValueError.
+_MAX_DIGITS = sys.get_int_max_str_digits() or 4300
+_NESTING_SHOWN = 100
+
+
+def parse_toml(text: str, path: str | Path | None) -> dict[str, Any]:
+    """``tomllib.loads`` with every failure as one :class:`InputError` naming the file and line.
+
+    Beyond malformed TOML, the standard reader fails on arrays nested hundreds deep (RecursionError)
+    and on integers longer than Python converts (ValueError); both become ordinary input errors.
+    """
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"not valid TOML: {shorten(str(exc), 200)}", path=path) from None
+    except RecursionError:
+        raise InputError(f"not valid here: arrays or inline tables nested more than {_NESTING_SHOWN} deep",
+                         path=path, line=_deep_nesting_line(text)) from None
+    except ValueError:
+        match = re.search(rf"[0-9_]{{{_MAX_DIGITS},}}", text)
+        line = line_of(text, match.start()) if match else None
+        raise InputError(f"a number with more than {_MAX_DIGITS} digits", path=path, line=line) from None
+
+
+def _deep_nesting_line(text: str) -> int | None:
+    """Best effort (only on the error path): the line where brackets first nest too deep."""
+    depth = 0
+    for m in re.finditer(r"[\[\]{}]", text):
+        depth += 1 if m.group() in "[{" else -1
+        if depth > _NESTING_SHOWN:
+            return line_of(text, m.start())
+    return None
+
+
+def line_of(text: str, offset: int) -> int:
+    """1-based line number of a character offset."""
+    return text.count("\n", 0, offset) + 1
+
+
 def find_key_line(text: str, key: str) -> int | None:
-    """1-based line of the first ``key = ...`` or ``[...key]`` in TOML text, if any."""
+    """1-based line of the first ``key = ...`` or ``[...key]`` in TOML text, if any.
+
+    Leading blanks are ``[ \\t]*``, not ``\\s*``: ``\\s`` also eats newlines, which made every line start
+    rescan the blank lines after it (quadratic on a file of many blank lines).
+    """
     if not key:
         return None
-    pattern = re.compile(rf"^\s*(?:{re.escape(key)}\s*=|\[\[?[^\]]*\b{re.escape(key)}\]\]?)", re.M)
+    pattern = re.compile(rf"^[ \t]*(?:{re.escape(key)}[ \t]*=|\[\[?[^\]\n]*\b{re.escape(key)}\]\]?)", re.M)
     match = pattern.search(text)
-    return text.count("\n", 0, match.start()) + 1 if match else None
+    return line_of(text, match.start()) if match else None
+
+
+def find_where_line(text: str, where: str) -> int | None:
+    """1-based line of a dotted key such as ``led.green.vf_typ_v`` or ``chain.register[1].lines``: the key
+    inside its own table when the table header is found, else the first line with that key."""
+    parts = where.split(".")
+    leaf = parts[-1].split("[")[0]
+    table, index = ".".join(parts[:-1]), 0
+    m = re.fullmatch(r"(.*)\[(\d+)\]", table)
+    if m:
+        table, index = m.group(1), int(m.group(2))
+    if table:
+        headers = list(re.finditer(rf"^[ \t]*\[\[?[ \t]*{re.escape(table)}[ \t]*\]\]?[ \t]*(?:#.*)?$", text, re.M))
+        if index < len(headers):
+            start = headers[index].end()
+            nxt = re.compile(r"^[ \t]*\[", re.M).search(text, start)
+            stop = nxt.start() if nxt else len(text)
+            key = re.compile(rf"^[ \t]*{re.escape(leaf)}[ \t]*=", re.M).search(text, start, stop)
+            if key:
+                return line_of(text, key.start())
+            if leaf == parts[-1] and len(parts) == 1:
+                return line_of(text, headers[index].start())
+    return find_key_line(text, leaf)

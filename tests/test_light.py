@@ -213,3 +213,50 @@ def test_check_json_has_led_uniformity_per_frame(tmp_path, capsys):
     assert f0["led_uniformity"]["green"] is None
     assert f1["led_uniformity"] == {"red": None, "green": 1.0}
     assert doc["summary"]["led_uniformity"]["red"] == pytest.approx(lo / hi, abs=1e-4)
+
+
+def test_randomised_light_keys_match_the_reference_pipeline():
+    from composer.electrical.light import as_lit
+    base = load_profile("bench-8x8")
+    rng = np.random.default_rng(23)
+    for trial in range(6):
+        leds = {}
+        for name in ("red", "green"):
+            pts = None
+            if trial % 2:
+                xs = np.sort(rng.choice(np.arange(2, 60), 3, replace=False)).astype(float)
+                ys = np.sort(rng.uniform(0.1, 2.0, 3))
+                pts = tuple(zip(xs.tolist(), ys.tolist()))
+            leds[name] = dataclasses.replace(base.leds[name], dominant_wavelength_nm=float(rng.uniform(450, 680)),
+                                             intensity_mcd=float(rng.uniform(0.5, 50)),
+                                             relative_intensity_points=pts)
+        prof = dataclasses.replace(base, leds=leds)
+        model = light_model(prof)
+        frames = rng.integers(0, 4, (2, 8, 8)).astype(np.uint8)
+        led_ma = rng.uniform(0.5, 30.0, frames.shape + (2,))
+        lit = lit_from_currents(frames, led_ma, prof, "typ")
+        for f, r, c in zip(*np.nonzero(frames)):
+            on = np.array([frames[f, r, c] & 1, frames[f, r, c] >> 1], float)
+            mcd = on * np.array([_datasheet_curve(leds[k], led_ma[f, r, c, i])
+                                 for i, k in enumerate(("red", "green"))]) * model.effective_duty
+            np.testing.assert_allclose(lit.srgb[f, r, c], _reference_srgb(mcd, prof, model.exposure), atol=1)
+        # the documented exposure: a lone LED at the stress corner is the brightest and fills the display
+        lone = np.zeros((3, 8, 8), np.uint8)
+        lone[:, 0, 0] = [1, 2, 3]
+        assert as_lit(lone, prof, "stress").srgb[:, 0, 0].max() == 255
+
+
+def _datasheet_curve(led, i_ma: float) -> float:
+    """Independent reading of the profile keys: mcd at the test current, scaled by the relative curve
+    (linear from 0 through the points, the last segment extended) or by current."""
+    if not led.relative_intensity_points:
+        return led.intensity_mcd * i_ma / led.test_current_ma
+    pts = [(0.0, 0.0)] + list(led.relative_intensity_points)
+
+    def rel(i):
+        for (x0, y0), (x1, y1) in zip(pts, pts[1:]):
+            if i <= x1:
+                return y0 + (y1 - y0) * (i - x0) / (x1 - x0)
+        (x0, y0), (x1, y1) = pts[-2], pts[-1]
+        return y1 + (y1 - y0) * (i - x1) / (x1 - x0)
+    return led.intensity_mcd * rel(i_ma) / rel(led.test_current_ma)

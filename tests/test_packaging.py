@@ -2,22 +2,25 @@
 
 The wheel and the sdist are built with PyPA's ``build`` front end (``--no-isolation``: the test extra
 installs setuptools and build, so no download) from a copy of the repository's files, so the checkout is
-never written to. ``tests/test_wheel_install.py`` installs the wheel and runs the commands from it.
+never written to. The last test installs the wheel into a fresh virtual environment and runs the commands
+from an unrelated folder.
 """
 from __future__ import annotations
 
 import hashlib
+import os
 import shutil
 import subprocess
 import sys
 import tarfile
+import time
 import tomllib
 import zipfile
 from pathlib import Path
 
 import pytest
 
-from conftest import ROOT, need
+from conftest import ROOT, need, need_tool
 
 # Folders mapped into packages at build time (pyproject.toml [tool.setuptools.package-dir]).
 MAPPED = {"patterns": "composer/patterns", "firmware_stub": "transport/firmware_stub"}
@@ -155,3 +158,117 @@ def test_no_file_exists_twice_in_the_repository():
     # and no copy of a mapped folder inside a package
     for target in MAPPED.values():
         assert not (ROOT / target).exists(), target
+
+
+# ---------------------------------------------------------------------------------------------------------------
+# The wheel installed as a bench user installs it, run from a folder that has nothing to do with the checkout.
+# ---------------------------------------------------------------------------------------------------------------
+def _installed(dists, tmp_path) -> tuple[Path, dict[str, str], Path]:
+    """A fresh virtual environment holding the wheel and its dependencies (pip, from PyPI or pip's cache)."""
+    venv = tmp_path / "venv"
+    subprocess.run([sys.executable, "-m", "venv", "--without-pip", str(venv)], check=True, timeout=60)
+    done = subprocess.run([sys.executable, "-m", "pip", "--python", str(venv / "bin" / "python"), "install", "-q",
+                           "--disable-pip-version-check", str(dists["wheel"])], capture_output=True, text=True,
+                          timeout=300)
+    assert done.returncode == 0, done.stderr[-3000:]
+    here = tmp_path / "bench"
+    here.mkdir()
+    keep = [p for p in os.environ.get("PATH", "").split(os.pathsep) if p and Path(p).resolve() != ROOT / ".venv/bin"]
+    env = {"PATH": os.pathsep.join([str(venv / "bin"), *keep]), "HOME": str(tmp_path / "home"),
+           "XDG_CACHE_HOME": str(tmp_path / "cache"), "XDG_STATE_HOME": str(tmp_path / "state"),
+           "LANG": "C.UTF-8", "LC_ALL": "C.UTF-8", "TERM": "xterm-256color"}
+    return venv, env, here
+
+
+def _run(env, here, *argv: str, timeout: float = 120) -> subprocess.CompletedProcess:
+    return subprocess.run(list(argv), capture_output=True, text=True, env=env, cwd=here, timeout=timeout)
+
+
+def test_the_installed_wheel_runs_every_command_from_another_folder(dists, tmp_path):
+    import json
+    import signal
+
+    from test_tmux import Tmux, _canvas_rows
+
+    tmux = need_tool("tmux")
+    for tool in ("make", "gcc", "avr-gcc"):
+        need_tool(tool)
+    venv, env, here = _installed(dists, tmp_path)
+    rowcast = str(venv / "bin" / "rowcast")
+    site = _run(env, here, str(venv / "bin" / "python"), "-c",
+                "import composer, transport; print(composer.__file__); print(transport.__file__)")
+    assert site.returncode == 0 and all(str(venv) in line for line in site.stdout.split()), site.stdout
+
+    # every bundled profile
+    done = _run(env, here, rowcast, "profiles")
+    assert done.returncode == 0, done.stderr
+    listed = {line.split()[0]: line.split()[1] for line in done.stdout.splitlines()}
+    for path in sorted((ROOT / "patterns" / "profiles").glob("*.toml")):
+        panel = tomllib.loads(path.read_text())["panel"]
+        assert listed.pop(path.stem) == f"{panel['rows']}x{panel['cols']}", path.stem
+    assert listed == {}
+
+    # check and export --c on a bundled demo by name: the same as the checkout's own code gives
+    demo = ROOT / "patterns" / "workshop-open.rowcast.toml"
+    done = _run(env, here, rowcast, "check", "workshop-open", "--json")
+    ours = subprocess.run([sys.executable, "-m", "composer", "check", str(demo), "--json"], capture_output=True,
+                          text=True, timeout=120)
+    assert done.returncode == ours.returncode == 0, done.stderr
+    a, b = json.loads(done.stdout), json.loads(ours.stdout)
+    a["summary"].pop("pattern"), b["summary"].pop("pattern")
+    assert a == b
+    done = _run(env, here, rowcast, "export", "workshop-open", "--c", "sign.h")
+    ours = subprocess.run([sys.executable, "-m", "composer", "export", str(demo), "--c", str(tmp_path / "ours.h")],
+                          capture_output=True, text=True, timeout=120)
+    assert done.returncode == ours.returncode == 0, done.stderr
+    assert (here / "sign.h").read_bytes() == (tmp_path / "ours.h").read_bytes()
+
+    # text (its own pillow font): the same pattern as the checkout writes, and check reads it back
+    done = _run(env, here, rowcast, "text", "OPEN", "--profile", "bench-8x8", "-o", "open.rowcast.toml")
+    ours = subprocess.run([sys.executable, "-m", "composer", "text", "OPEN", "--profile", "bench-8x8", "-o",
+                           str(tmp_path / "ours.rowcast.toml")], capture_output=True, text=True, timeout=120)
+    assert done.returncode == ours.returncode and done.returncode in (0, 1), done.stderr
+    assert (here / "open.rowcast.toml").read_bytes() == (tmp_path / "ours.rowcast.toml").read_bytes()
+    doc = tomllib.loads((here / "open.rowcast.toml").read_text())
+    assert doc["profile"] == "bench-8x8" and len(doc["frame"]) > 1
+    assert _run(env, here, rowcast, "check", "open.rowcast.toml").returncode == done.returncode
+
+    # the composer on its demo in a real terminal: the first screen is drawn
+    term = Tmux(tmux, tmp_path)
+    try:
+        term.start("demo", rowcast, env)
+        screen = term.wait_for("demo", "workshop open", timeout=30)
+        deadline = time.monotonic() + 15
+        while len(_canvas_rows(screen)) < 8 and time.monotonic() < deadline:
+            time.sleep(0.1)
+            screen = term.screen("demo")
+        first = tomllib.loads(demo.read_text())["frame"][0]["leds"].strip().splitlines()
+        drawn = _canvas_rows(screen)
+        assert [drawn[r].replace(" ", "") for r in range(8)] == [
+            row.replace(".", "·").replace("g", "▲").replace("r", "●").replace("a", "◆") for row in first], screen
+    finally:
+        term.close()
+
+    # rowcast sim builds from the installed sources into the cache, and the simulated board acknowledges frames
+    link, records = here / "port", here / "records.txt"
+    sim = subprocess.Popen([rowcast, "sim", "--link", str(link), "--records", str(records), "--seconds", "90"],
+                           stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env, cwd=here)
+    try:
+        first = sim.stdout.readline()
+        assert first.startswith("simulated receiver for bench-8x8"), first + sim.stderr.read()
+        done = _run(env, here, rowcast, "stream", "kettle-ready", "--port", str(link), "--quiet")
+    finally:
+        sim.send_signal(signal.SIGINT)
+        sim.wait(30)
+    frames = len(tomllib.loads((ROOT / "patterns" / "kettle-ready.rowcast.toml").read_text())["frame"])
+    assert done.returncode == 0 and f"played {frames} frames" in done.stdout and f"{frames} shown" in done.stdout, \
+        done.stdout + done.stderr
+    assert sim.returncode == 0
+    assert sum(line.startswith("@rc latch") for line in records.read_text().splitlines()) > frames
+    built = list((tmp_path / "cache" / "rowcast").glob("sim-*/rowcast-harness"))
+    assert len(built) == 1
+    installed_fw = venv / "lib" / f"python{sys.version_info.major}.{sys.version_info.minor}" / "site-packages" / \
+        "transport" / "firmware_stub"
+    shipped = {f"transport/firmware_stub/{p.relative_to(installed_fw)}" for p in installed_fw.rglob("*")
+               if p.is_file() and "__pycache__" not in p.parts}
+    assert shipped == {k for k in wheel_contents(dists["wheel"]) if k.startswith("transport/firmware_stub/")}

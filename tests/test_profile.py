@@ -66,7 +66,8 @@ BAD = [
      ["chain.bit_order", 'did you mean "msb-first"']),
     ("driver kind", _sub('kind = "source"', 'kind = "sink"'), ["row_driver.kind", "common-anode"]),
     ("drop model params", lambda t: re.sub(r"(?m)^drop_c_ohm = .*$", "", t), ["row_driver.drop_c_ohm", "log-linear"]),
-    ("junction limit at ambient", _sub("tj_max_c = 150.0", "tj_max_c = 20.0"), ["row_driver.tj_max_c", "ambient"]),
+    ("junction limit at ambient", lambda t: _sub("ambient_c = 25.0", "ambient_c = 100.0")(
+        _sub("tj_max_c = 150.0", "tj_max_c = 90.0")(t)), ["row_driver.tj_max_c", "ambient"]),
     ("blanking fills slot", _sub("blanking_us = 4.0", "blanking_us = 90.0"), ["scan.blanking_us"]),
     ("both timings", _sub("row_period_us = 90.0", "row_period_us = 90.0\nrefresh_hz = 100.0"),
      ["scan.row_period_us", "exactly one"]),

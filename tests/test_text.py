@@ -1,5 +1,6 @@
-"""Scrolling text: the glyphs are pillow's built-in bitmap font, drawn again here by pillow on its own
-and compared column by column; the scroll moves exactly one column per frame (common practice for
+"""Scrolling text with the optional pillow font (``font="pillow"``): its glyphs are pillow's built-in
+bitmap font, drawn again here by pillow on its own and compared column by column (the LED font has
+its own test, tests/test_led_font.py); the scroll moves exactly one column per frame (common practice for
 marquee text on LED panels)."""
 from __future__ import annotations
 
@@ -27,11 +28,11 @@ def _pillow_text(message: str) -> np.ndarray:
 def test_text_scrolls_one_column_per_frame_and_matches_the_font(profile_name):
     prof = load_profile(profile_name)
     message = "Open 9-5, Tea?"
-    anim = text_animation(message, prof, speed=25, colour="green")
+    anim = text_animation(message, prof, speed=25, colour="green", font="pillow")
     cols = prof.cols
     ref = _pillow_text(message)[2:2 + prof.rows]          # ascender line down, panel rows tall
     width = ref.shape[1]
-    assert anim.n_frames == render_strip(message).shape[1] + cols
+    assert anim.n_frames == render_strip(message, font="pillow").shape[1] + cols
     assert set(np.unique(anim.frames)) == {0, GREEN}
     # frame k shows reference columns k+1-cols .. k (those that exist)
     for k in range(anim.n_frames):
@@ -55,13 +56,13 @@ def test_colours_and_speed(bench_profile):
 
 
 def test_tall_panel_centres_the_whole_cell():
-    strip = render_strip("Ag")
+    strip = render_strip("Ag", font="pillow")
     tall = _fit_rows(strip, 15)
     assert np.array_equal(tall[2:13], strip) and not tall[:2].any() and not tall[13:].any()
 
 
 @pytest.mark.parametrize("message, needle", [
-    ("", "empty"), ("   ", "empty"), ("snow \u2603", "not in the built-in font"), ("x" * 3000, "frame limit"),
+    ("", "empty"), ("   ", "empty"), ("snow \u2603", "not in the LED font"), ("x" * 3000, "frame limit"),
 ])
 def test_bad_text_is_refused(bench_profile, message, needle):
     with pytest.raises(InputError, match=needle):

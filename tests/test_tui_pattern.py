@@ -263,3 +263,43 @@ async def test_recolour_by_colour_in_the_region(tmp_path):
         want = f.copy()
         want[f == colour] = AMBER if colour != AMBER else RED
         assert np.array_equal(s.frame, want)
+
+
+@async_test
+async def test_text_dialog_options_and_a_checked_fix(tmp_path):
+    from composer.generate.text_scroll import text_animation
+    app = app_for(make_pattern(tmp_path, frames=1))
+    async with app.run_test(size=(100, 30)) as pilot:
+        await pilot.pause()
+        s = editor(app).session
+        await pilot.press("T")
+        await pilot.pause()
+        assert app.screen.id == "ask-text"
+        app.screen.query_one("#ask-input").value = "Hi 5"
+        app.screen.query_one("#text-speed").value = "abc"
+        await pilot.press("enter")
+        await pilot.pause()
+        assert app.screen.id == "ask-text" and "columns/s: a number" in screen_text(app)
+        form = app.screen
+        for fid, value in (("text-colour", "green"), ("text-speed", "10"), ("text-size", "5"), ("text-gap", "2"),
+                           ("text-pad-start", "0"), ("text-pad-end", "4")):
+            form.query_one(f"#{fid}").value = value
+        form.query_one("#text-gap").focus()
+        await pilot.press("enter")                       # enter in any field makes the text
+        await pilot.pause()
+        want = text_animation("Hi 5", s.profile, colour="green", speed=10, size=5, gap=2, pad_start=0, pad_end=4)
+        assert s.anim.n_frames == 1 + want.n_frames
+        assert np.array_equal(s.anim.frames[1:], want.frames) and s.anim.durations_ms[1] == 100
+        # the default text on this profile is over a limit: the status names a fix that was checked
+        await pilot.press("T")
+        await pilot.pause()
+        app.screen.query_one("#ask-input").value = "EEE"
+        await pilot.press("enter")
+        await pilot.pause()
+        assert "over a limit: it passes with" in screen_text(app)
+        assert "(checked)" in editor(app).message and "register-package" in editor(app).message
+        await pilot.press("T")
+        await pilot.pause()
+        await pilot.press("escape")                       # escape leaves the dialog from the message field
+        await pilot.pause()
+        assert isinstance(app.screen, EditorScreen)

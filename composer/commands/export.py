@@ -16,6 +16,7 @@ from pathlib import Path
 import numpy as np
 
 from ..atomic import atomic_write_bytes
+from ..bundled import resolve_pattern_ref
 from ..electrical import CORNERS
 from ..electrical.light import as_lit
 from ..errors import EXIT_OK, EXIT_VIOLATION, InputError
@@ -30,7 +31,7 @@ __all__ = ["configure", "run"]
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.rowcast.toml)")
+    parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.rowcast.toml) or bundled demo name")
     parser.add_argument("--profile", metavar="NAME|PATH", help="profile to use instead of the pattern's own")
     parser.add_argument("--c", metavar="OUT.h", dest="c_out", help="write C tables (a header file)")
     parser.add_argument("--layout", choices=LAYOUTS, default="shift",
@@ -56,7 +57,8 @@ def run(args: argparse.Namespace) -> int:
     wanted = {opt: check_out(p, opt) for opt, p in outputs.items() if p}
     if not wanted:
         raise InputError("nothing to export: give --c, --gif, --png and/or --json")
-    seen: dict[Path, str] = {Path(args.pattern).resolve(): "the pattern itself"}
+    pattern = resolve_pattern_ref(args.pattern)        # a file, or a bundled demo by name
+    seen: dict[Path, str] = {pattern.resolve(): "the pattern itself"}
     for opt, out in wanted.items():
         key = out.resolve()
         if key in seen:
@@ -70,7 +72,7 @@ def run(args: argparse.Namespace) -> int:
         raise InputError(f"{'--as-lit' if args.as_lit else '--corner'} applies to --gif and --png previews: give one")
     if args.corner and not args.as_lit:
         raise InputError("--corner chooses the corner of an as-lit preview: add --as-lit")
-    anim, profile = open_pattern(args.pattern, args.profile)
+    anim, profile = open_pattern(pattern, args.profile)
     lit = as_lit(anim.frames, profile, args.corner or "typ") if args.as_lit else None
 
     # Render everything first, then write: a failure while rendering leaves no file behind.
@@ -82,7 +84,7 @@ def run(args: argparse.Namespace) -> int:
     blobs: dict[str, bytes] = {}
     if args.c_out:
         blobs["--c"] = c_header(anim, profile, report, layout=args.layout, prefix=args.prefix,
-                                progmem=args.progmem, source_name=Path(args.pattern).name,
+                                progmem=args.progmem, source_name=pattern.name,
                                 stress_report=stress).encode()
     if args.gif_out:
         blobs["--gif"] = gif_bytes(anim, args.scale, lit)

@@ -4,6 +4,7 @@ from __future__ import annotations
 import argparse
 import json
 
+from ..electrical import check_profile
 from ..profile import SCHEMA, load_profile, profile_to_dict
 
 # schema table that describes each section of profile_to_dict's output
@@ -49,9 +50,10 @@ def _lines(data: dict, prefix: str = "", section: str = "") -> list[str]:
 
 def run(args: argparse.Namespace) -> int:
     prof = load_profile(args.profile)
+    check_profile(prof)   # the same circuits check builds: show accepts exactly what check accepts
     data = profile_to_dict(prof)
     if args.json:
-        print(json.dumps(data, indent=2))
+        print(json.dumps(data, indent=2, allow_nan=False))
     else:
         print("\n".join(_lines(data)))
     return 0

@@ -14,7 +14,7 @@ __all__ = ["configure", "run"]
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.rowcast.toml)")
+    parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.rowcast.toml) or bundled demo name")
     parser.add_argument("--frame", type=int, required=True, metavar="N", help="frame index (from 0)")
     parser.add_argument("--row", type=int, metavar="R", help="row (default: the frame's worst row)")
     parser.add_argument("--profile", metavar="NAME|PATH", help="hardware profile (default: the pattern's)")

@@ -13,7 +13,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..model import MAX_FRAMES, MAX_SIDE, check_frame_array
-from ..profile import COLOURS, Profile
+from ..profile import COLOURS, Profile, profile_error
 from .counts import ColumnGroup, column_groups, lit_counts
 from .flash import flash_check
 from .light import uniformity
@@ -22,7 +22,7 @@ from .report import Report, Verdict
 from .solve import CORNERS, Circuit, count_table
 from .timing import Timing, scan_timing
 
-__all__ = ["analyse", "guard", "firmware_lit_limit"]
+__all__ = ["analyse", "guard", "firmware_lit_limit", "check_profile"]
 
 
 @dataclass(frozen=True)
@@ -54,9 +54,11 @@ def _prep(profile: Profile, corner: str) -> _Prep:
         return hit[1]
     if corner not in CORNERS:
         raise InputError(f'corner "{corner}" is not one of {", ".join(CORNERS)}')
-    table = count_table(profile, corner)
-    timing = scan_timing(profile)
-    limits = limits_for(profile, timing)
+    with np.errstate(all="ignore"):   # whatever overflowed is refused by _require_finite, not printed
+        table = count_table(profile, corner)
+        timing = scan_timing(profile)
+        limits = limits_for(profile, timing)
+    _require_finite(profile, corner, table, timing, limits)
     groups = column_groups(profile)
     npk = len(limits.package_rows)
     onehot = np.zeros((profile.rows, npk))
@@ -79,6 +81,26 @@ def _prep(profile: Profile, corner: str) -> _Prep:
         _CACHE.pop(next(iter(_CACHE)))
     _CACHE[key] = (profile, prep)
     return prep
+
+
+def _require_finite(profile: Profile, corner: str, table, timing: Timing, limits: Limits) -> None:
+    """Every number the reports print comes from these tables: none may be NaN or infinite. The profile's
+    bounds keep them finite; this is the backstop that turns a miss into an error naming the profile."""
+    parts = {"supply.voltage_v": (table.i_row, table.i_led, table.v_driver, table.v_branch),
+             "row_driver.theta_ja_c_per_w": (limits.row_peak_ma, limits.package_power_w),
+             "led.red.max_peak_ma": (limits.led_peak_ma, limits.led_average_ma),
+             "scan.row_period_us": (timing.refresh_hz, timing.effective_duty, timing.shift_us)}
+    for key, arrays in parts.items():
+        if not all(np.isfinite(a).all() for a in arrays):
+            raise profile_error(profile, key, f"the row circuit has no finite solution at the {corner} corner; "
+                                "check the supply, the LED forward voltages and the row driver's drop")
+
+
+def check_profile(profile: Profile) -> None:
+    """Build everything ``analyse`` needs from the profile alone, at every corner, so ``rowcast profile show``
+    refuses exactly the profiles ``rowcast check`` refuses (raises :class:`InputError`)."""
+    for corner in CORNERS:
+        _prep(profile, corner)
 
 
 def analyse(frames, durations_ms, profile: Profile, *, corner: str = "typ") -> Report:

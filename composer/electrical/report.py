@@ -21,6 +21,18 @@ def _r(x: float, nd: int = 4) -> float | None:
     return None if not np.isfinite(x) else round(x, nd)
 
 
+def _rl(a: np.ndarray, nd: int = 4) -> list:
+    """``_r`` over a whole array at once (a 10,000-frame report calls it for every frame and row):
+    rint(x * 10^nd) / 10^nd is the double nearest the rounded decimal, so it prints as short as round()."""
+    a = np.asarray(a, dtype=float)
+    with np.errstate(invalid="ignore", over="ignore"):
+        out = (np.rint(a * 10.0 ** nd) / 10.0 ** nd).tolist()
+    finite = np.isfinite(a)
+    if finite.all():
+        return out
+    return np.where(finite, np.array(out, dtype=object), None).tolist()
+
+
 @dataclass
 class Report:
     """What ``analyse`` found. Currents in mA, powers in W, temperatures in C.
@@ -107,32 +119,44 @@ class Report:
     def frame_violations(self, index: int) -> list[Violation]:
         return [v for v in self.violations if v.frame == index]
 
+    def led_ma_range(self) -> dict[str, list[float | None]]:
+        """Lowest and highest lit-LED current of each colour over all frames (None: never lit)."""
+        return {c: [_r(np.nanmin(self.led_ma_min[:, k], initial=np.inf)),
+                    _r(np.nanmax(self.led_ma_max[:, k], initial=-np.inf))] for k, c in enumerate(("red", "green"))}
+
     def to_json(self) -> dict:
         by_frame: dict[int, list[dict]] = {}
         for v in self.violations:
             if v.frame is not None:
                 by_frame.setdefault(v.frame, []).append(v.to_json())
+        worst_ma, pin, pkg, peak, avg = (_rl(a) for a in (self.worst_row_ma, self.pin_ma_max, self.package_ma_max,
+                                                          self.supply_peak_ma, self.supply_avg_ma))
+        row_ma, led_min, led_max = _rl(self.row_ma), _rl(self.led_ma_min), _rl(self.led_ma_max)
+        tj, res_w, unif = _rl(self.driver_tj_c, 2), _rl(self.resistor_w_max, 6), _rl(self.led_uniformity)
+        util = {rule: _rl(u) for rule, u in self.rule_utilisation.items()}
+        binding = [self.rules[k] for k in self.binding_index.tolist()]
+        ms, worst_row = self.durations_ms.tolist(), self.worst_row.tolist()
+        stuck, ok = self.stuck_scan.tolist(), self.frame_ok.tolist()
         frames = []
         for i in range(self.n_frames):
             frames.append({
                 "index": i,
-                "ms": int(self.durations_ms[i]),
-                "worst_row": int(self.worst_row[i]),
-                "worst_row_ma": _r(self.worst_row_ma[i]),
-                "row_ma": [_r(x) for x in self.row_ma[i]],
-                "pin_ma_max": _r(self.pin_ma_max[i]),
-                "package_ma_max": _r(self.package_ma_max[i]),
-                "supply_peak_ma": _r(self.supply_peak_ma[i]),
-                "supply_avg_ma": _r(self.supply_avg_ma[i]),
-                "led_ma_range": {c: [_r(self.led_ma_min[i, k]), _r(self.led_ma_max[i, k])]
-                                 for k, c in enumerate(("red", "green"))},
-                "led_uniformity": {c: _r(self.led_uniformity[i, k]) for k, c in enumerate(("red", "green"))},
-                "driver_tj_c": _r(self.driver_tj_c[i], 2),
-                "resistor_w_max": _r(self.resistor_w_max[i], 6),
-                "stuck_scan_over": bool(self.stuck_scan[i]),
-                "utilisation": {rule: _r(u[i]) for rule, u in self.rule_utilisation.items()},
-                "binding": self.binding(i),
-                "ok": bool(self.frame_ok[i]),
+                "ms": int(ms[i]),
+                "worst_row": int(worst_row[i]),
+                "worst_row_ma": worst_ma[i],
+                "row_ma": row_ma[i],
+                "pin_ma_max": pin[i],
+                "package_ma_max": pkg[i],
+                "supply_peak_ma": peak[i],
+                "supply_avg_ma": avg[i],
+                "led_ma_range": {"red": [led_min[i][0], led_max[i][0]], "green": [led_min[i][1], led_max[i][1]]},
+                "led_uniformity": {"red": unif[i][0], "green": unif[i][1]},
+                "driver_tj_c": tj[i],
+                "resistor_w_max": res_w[i],
+                "stuck_scan_over": bool(stuck[i]),
+                "utilisation": {rule: u[i] for rule, u in util.items()},
+                "binding": binding[i],
+                "ok": bool(ok[i]),
                 "violations": by_frame.get(i, []),
             })
         t = self.timing
@@ -156,9 +180,7 @@ class Report:
             "row_limit_ma": _r(self.row_limit_ma),
             "supply_peak_ma": _r(self.supply_peak_ma.max()),
             "supply_avg_ma": _r(float((self.supply_avg_ma * weights).sum())),
-            "led_ma_range": {c: [_r(np.nanmin(self.led_ma_min[:, k], initial=np.inf)),
-                                 _r(np.nanmax(self.led_ma_max[:, k], initial=-np.inf))]
-                             for k, c in enumerate(("red", "green"))},
+            "led_ma_range": self.led_ma_range(),
             "led_uniformity": {c: _r(self.led_uniformity_all[k]) for k, c in enumerate(("red", "green"))},
             "driver_tj_max_c": _r(self.driver_tj_c.max(), 2),
             "flicker": {"region": t.flicker_region, "text": t.flicker_text},

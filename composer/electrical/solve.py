@@ -22,13 +22,14 @@ count and a table lookup.
 """
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
 
 from ..errors import InputError
-from ..profile import COLOURS, Profile
+from ..profile import COLOURS, Profile, profile_error
 from .diode import Diode, branch_conductance, branch_current, fit_diode
 from .drivers import DropModel, drop_model
 
@@ -81,9 +82,21 @@ def _circuit(profile: Profile, corner: str) -> Circuit:
     diodes = []
     for colour in COLOURS:
         led = profile.leds[colour]
-        base = fit_diode(led, f"led.{colour}")
-        vf = {"typ": led.vf_typ_v, "stress": led.vf_min_v, "bright": led.vf_max_v}[corner]
-        diodes.append(base.shifted(vf - float(base.voltage(led.test_current_ma * 1e-3))))
+        try:
+            base = fit_diode(led, f"led.{colour}")
+        except InputError as err:
+            raise profile_error(profile, err.where or f"led.{colour}", err.detail) from None
+        key = {"typ": "vf_typ_v", "stress": "vf_min_v", "bright": "vf_max_v"}[corner]
+        vf = getattr(led, key)
+        dv = vf - float(base.voltage(led.test_current_ma * 1e-3))
+        # The corner moves the fitted curve by dv; its saturation current Is*exp(-dv/nVt) must stay a
+        # number (a forward voltage volts away from the iv_points curve underflows or overflows it).
+        log_is = math.log(base.is_a) - dv / base.nvt
+        if not _LOG_IS_RANGE[0] < log_is < _LOG_IS_RANGE[1]:
+            raise profile_error(profile, f"led.{colour}.{key}", f"{vf:g} V at {led.test_current_ma:g} mA lies "
+                                f"{dv:+.3g} V from the curve through iv_points: the forward voltages and the "
+                                "points do not describe one LED")
+        diodes.append(base.shifted(dv))
     if res.placement == "column":
         column_r = (part("red"), part("green"))
         row_r = 0.0
@@ -98,21 +111,32 @@ def _circuit(profile: Profile, corner: str) -> Circuit:
     return circuit
 
 
+_LOG_IS_RANGE = (math.log(1e-300), math.log(1.0))   # saturation current between 1e-300 A and 1 A
+_DROP_KEY = {"log-linear": "drop_a_v", "linear": "drop_v0_v", "table": "drop_table"}
+
+
 def _check_possible(profile: Profile, c: Circuit) -> None:
-    """Circuits that cannot work get an error naming the profile key, never a solver failure."""
+    """Circuits that cannot work get an error naming the part and its profile key, never a solver failure."""
+    supply = profile.supply.voltage_v
+    drop = float(c.driver.drop(1e-3))
+    if drop >= supply:
+        raise profile_error(profile, f"row_driver.{_DROP_KEY[profile.row_driver.drop_model]}",
+                            f"the row driver's drop at 1 mA is {drop:.3g} V, at or above the {supply:g} V "
+                            "supply: no LED can light")
     for k, colour in enumerate(COLOURS):
         if c.branch_r[k] + c.diodes[k].rs_ohm + c.row_r <= 0.0:
             key = "resistor.red.ohms" if profile.resistor.placement == "column" else "resistor.row.ohms"
-            raise InputError("no resistance limits the LED current (resistor, register r_on_ohm and the "
-                             "LED's own series resistance are all zero)", where=key)
+            raise profile_error(profile, key, "no resistance limits the LED current (resistor, register "
+                                "r_on_ohm and the LED's own series resistance are all zero)")
         led = profile.leds[colour]
         # A typical LED at 1 mA plus the driver's drop at 1 mA must fit under the nominal supply.
         typ = c.diodes[k].shifted(led.vf_typ_v - float(c.diodes[k].voltage(led.test_current_ma * 1e-3)))
-        need = float(typ.voltage(1e-3)) + float(c.driver.drop(1e-3))
-        if need >= profile.supply.voltage_v:
-            raise InputError(f"the LED needs {need:.2f} V at 1 mA with the row driver's drop, at or above the "
-                             f"{profile.supply.voltage_v:g} V supply: no LED can light",
-                             where=f"led.{colour}.vf_typ_v")
+        vled = float(typ.voltage(1e-3))
+        if vled + drop >= supply:
+            raise profile_error(profile, f"led.{colour}.vf_typ_v",
+                                f"a typical {colour} LED needs {vled:.3g} V at 1 mA and the row driver drops "
+                                f"{drop:.3g} V: {vled + drop:.3g} V, at or above the {supply:g} V supply, so no "
+                                "LED can light")
 
 
 def solve_rows(n_red, n_green, c: Circuit) -> RowSolution:

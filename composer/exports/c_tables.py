@@ -108,7 +108,8 @@ def _comment_safe(text: str) -> str:
     """Text that cannot end a C comment, form a trigraph or hold a non-ASCII byte."""
     text = " ".join(text.split())
     text = text.encode("ascii", "replace").decode()
-    return text.replace("*/", "* /").replace("/*", "/ *").replace("??", "? ?").replace("\\", "/")
+    # backslashes first: turned into "/" afterwards they could form "*/" again ("*\\" -> "*/")
+    return text.replace("\\", "/").replace("*/", "* /").replace("/*", "/ *").replace("??", "? ?")
 
 
 def bitmap_rows(frames: np.ndarray) -> np.ndarray:

@@ -33,6 +33,7 @@ class FrameResult:
     ok: bool
     rules: tuple[str, ...]        # broken rules, in the engine's order
     messages: tuple[str, ...]     # one line per violation
+    led_uniformity: tuple[float, float] = (float("nan"), float("nan"))   # red, green: dimmest / brightest lit
 
 
 def _per_frame(value, n: int) -> np.ndarray:
@@ -45,6 +46,7 @@ def _split(report, n: int) -> list[FrameResult]:
     fields = {name: _per_frame(getattr(report, name), n) for name in
               ("worst_row", "worst_row_ma", "pin_ma_max", "package_ma_max", "supply_peak_ma", "supply_avg_ma")}
     ok = np.broadcast_to(np.asarray(report.frame_ok, bool), (n,))
+    evenness = np.asarray(report.led_uniformity, float).reshape(n, 2)
     rules: list[list[str]] = [[] for _ in range(n)]
     messages: list[list[str]] = [[] for _ in range(n)]
     for v in report.violations:
@@ -57,7 +59,8 @@ def _split(report, n: int) -> list[FrameResult]:
     return [FrameResult(row_ma[i].copy(), int(fields["worst_row"][i]), float(fields["worst_row_ma"][i]),
                         float(fields["pin_ma_max"][i]), float(fields["package_ma_max"][i]),
                         float(fields["supply_peak_ma"][i]), float(fields["supply_avg_ma"][i]), bool(ok[i]),
-                        tuple(rules[i]), tuple(messages[i])) for i in range(n)]
+                        tuple(rules[i]), tuple(messages[i]),
+                        (float(evenness[i, 0]), float(evenness[i, 1]))) for i in range(n)]
 
 
 @dataclass

@@ -6,6 +6,10 @@ NO_COLOR terminals: off ``·`` (dim), red ``●``, green ``▲``, amber ``◆``.
 an off LED that was lit in the previous frame shows that frame's hollow glyph (``○ △ ◇``, dim).
 The cursor is drawn in inverse colours, the region between the mark and the cursor underlined.
 
+As lit (``shade``, from :func:`lit_shades`): in a true-colour terminal each lit LED takes the colour
+the light model gives it; in 256/16-colour and NO_COLOR terminals the glyphs stay and the lightness
+shows in three steps: a dark shade of the colour, the colour, the colour in bold.
+
 :class:`LedView` draws a frame; :class:`LedCanvas` adds the cursor, mark and onion skin and is
 the one the user edits. The device preview in the link panel is a plain :class:`LedView`.
 """
@@ -21,9 +25,11 @@ from textual.message import Message
 from textual.scroll_view import ScrollView
 from textual.strip import Strip
 
+from ..electrical.light import Lit
 from ..model import AMBER, GREEN, OFF, RED
 
-__all__ = ["LedView", "LedCanvas", "GLYPH", "HOLLOW", "COLOUR", "CELL_W", "GUTTER_W"]
+__all__ = ["LedView", "LedCanvas", "GLYPH", "HOLLOW", "COLOUR", "CELL_W", "GUTTER_W", "lit_shades",
+           "LIGHTNESS_STEPS"]
 
 GLYPH = {OFF: "·", RED: "●", GREEN: "▲", AMBER: "◆"}
 HOLLOW = {OFF: "·", RED: "○", GREEN: "△", AMBER: "◇"}
@@ -31,11 +37,24 @@ COLOUR = {OFF: "#6c6c6c", RED: "#ff3a3a", GREEN: "#3ad13a", AMBER: "#ffb000"}
 CELL_W = 2          # glyph + one space: LEDs stay square-ish in a terminal cell grid
 GUTTER_W = 3        # row number + space
 
-# flags packed beside the state so one small code keys the style table
+# flags packed beside the state so one small code keys the style table; an as-lit shade from bit 7
 _ONION, _CURSOR, _REGION = 4, 8, 16
+_SHADE_SHIFT = 7
+_RGB_FLAG = 1 << 24            # in a shade: the low 24 bits are a true colour; without it, a lightness step
+LIGHTNESS_STEPS = (40.0, 75.0)   # CIE 1976 L*: dim below the first, bold from the second
 
 
-@lru_cache(maxsize=None)
+def lit_shades(lit: Lit, index: int, *, true_colour: bool) -> np.ndarray:
+    """(rows, cols) uint32 shades of frame ``index`` of ``lit`` for :meth:`LedView.show` (0 where off)."""
+    if true_colour:
+        rgb = lit.srgb[index].astype(np.uint32)
+        shade = _RGB_FLAG | (rgb[..., 0] << 16) | (rgb[..., 1] << 8) | rgb[..., 2]
+    else:
+        shade = 1 + np.searchsorted(LIGHTNESS_STEPS, lit.lightness[index], side="right").astype(np.uint32)
+    return np.where(lit.lit[index], shade, 0).astype(np.uint32)
+
+
+@lru_cache(maxsize=8192)     # as-lit true colours make many codes: keep it bounded
 def _cell(code: int) -> tuple[str, Style]:
     state = code & 3
     onion_state = (code >> 5) & 3
@@ -44,12 +63,28 @@ def _cell(code: int) -> tuple[str, Style]:
     elif state == OFF:
         glyph, style = GLYPH[OFF], Style(color=COLOUR[OFF], dim=True)
     else:
-        glyph, style = GLYPH[state], Style(color=COLOUR[state], bold=True)
+        glyph, style = GLYPH[state], _lit_style(state, code >> _SHADE_SHIFT)
     if code & _REGION:
         style += Style(underline=True)
     if code & _CURSOR:
         style += Style(reverse=True)
     return glyph, style
+
+
+# Lightness steps without true colour: a dark shade, the usual colour, the usual colour in bold. The
+# dark shades round to the standard (dark) red, green and yellow of a 16-colour terminal, the usual
+# colours to the bright ones. (A "dim" style is blended into the background first and can round to
+# another hue there, e.g. dim red to yellow.)
+_STEP_COLOURS = {RED: ("#800000", COLOUR[RED]), GREEN: ("#008000", COLOUR[GREEN]),
+                 AMBER: ("#a08000", COLOUR[AMBER])}
+
+
+def _lit_style(state: int, shade: int) -> Style:
+    if shade & _RGB_FLAG:
+        return Style(color=f"#{shade & 0xFFFFFF:06x}", bold=True)
+    if shade:                                  # lightness step 1..3
+        return Style(color=_STEP_COLOURS[state][shade > 1], bold=shade == 3)
+    return Style(color=COLOUR[state], bold=True)
 
 
 _DIM = Style(dim=True)
@@ -78,7 +113,8 @@ class LedView(ScrollView, can_focus=False):
                  classes: str | None = None) -> None:
         super().__init__(name=name, id=id, classes=classes)
         self._frame = np.zeros((rows, cols), np.uint8)
-        self._codes = np.zeros((rows, cols), np.uint16)
+        self._codes = np.zeros((rows, cols), np.uint32)
+        self._shade: np.ndarray | None = None
         self._strips: dict[int, Strip] = {}
         self._base_style: Style | None = None
         self._styled: dict[int, tuple[str, Style, bool]] = {}
@@ -99,17 +135,28 @@ class LedView(ScrollView, can_focus=False):
 
     def resize_panel(self, rows: int, cols: int) -> None:
         self._frame = np.zeros((rows, cols), np.uint8)
-        self._codes = np.zeros((rows, cols), np.uint16)
+        self._codes = np.zeros((rows, cols), np.uint32)
+        self._shade = None
         self._strips.clear()
         self.virtual_size = Size(_inner(cols) + 2, rows + 3)
         self.refresh(layout=True)
 
     # -- state -> codes ---------------------------------------------------------------------
     def _compute_codes(self) -> np.ndarray:
-        return self._frame.astype(np.uint16)
+        codes = self._frame.astype(np.uint32)
+        if self._shade is not None and self._shade.shape == codes.shape:
+            codes |= self._shade << _SHADE_SHIFT
+        return codes
 
-    def show(self, frame: np.ndarray) -> None:
+    @property
+    def true_colour(self) -> bool:
+        """Can the terminal show the light model's colours (else: lightness steps)?"""
+        return self.app.console.color_system == "truecolor" and not self.app.no_color
+
+    def show(self, frame: np.ndarray, shade: np.ndarray | None = None) -> None:
+        """Draw ``frame``; ``shade`` (from :func:`lit_shades`) draws it as lit."""
         self._frame = np.array(frame, np.uint8)
+        self._shade = shade
         self._update_codes()
 
     def _update_codes(self) -> None:
@@ -228,18 +275,19 @@ class LedCanvas(LedView, can_focus=True):
         self.mark: tuple[int, int] | None = None
 
     def show_state(self, frame: np.ndarray, onion: np.ndarray | None, cursor: tuple[int, int],
-                   mark: tuple[int, int] | None) -> None:
+                   mark: tuple[int, int] | None, shade: np.ndarray | None = None) -> None:
         self._frame = np.array(frame, np.uint8)
+        self._shade = shade
         self._onion = None if onion is None else np.array(onion, np.uint8)
         self.cursor, self.mark = cursor, mark
         self._update_codes()
         self.scroll_to_region_of_cursor()
 
     def _compute_codes(self) -> np.ndarray:
-        codes = self._frame.astype(np.uint16)
+        codes = super()._compute_codes()
         if self._onion is not None:
             lit_before = (self._onion != OFF) & (self._frame == OFF)
-            codes |= np.where(lit_before, _ONION | (self._onion.astype(np.uint16) << 5), 0).astype(np.uint16)
+            codes |= np.where(lit_before, _ONION | (self._onion.astype(np.uint32) << 5), 0).astype(np.uint32)
         r, c = self.cursor
         if self.mark is not None:
             (mr, mc) = self.mark

@@ -23,6 +23,7 @@ from .frame_actions import FrameActions
 from .frames import FrameStrip
 from .generate_actions import GenerateActions
 from .keys import editor_bindings
+from .light_actions import LightActions
 from .link_actions import LinkActions
 from .pattern_actions import PatternActions
 from .readout import Readout
@@ -32,8 +33,8 @@ from .startup import Startup
 __all__ = ["EditorScreen"]
 
 
-class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, PatternActions, FileActions,
-                   AnimationChecks, Screen):
+class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, LightActions, PatternActions,
+                   FileActions, AnimationChecks, Screen):
     BINDINGS = editor_bindings()
     HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (118, "-wide")]
 
@@ -89,7 +90,7 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Patt
     def redraw(self, *, full: bool = False, readout: bool = True) -> None:
         s = self.session
         onion = s.previous_frame if self.onion else None
-        self.canvas.show_state(s.frame, onion, s.cursor, s.mark)
+        self.canvas.show_state(s.frame, onion, s.cursor, s.mark, self.lit_shade(s.frame))
         self.query_one(FrameStrip).update_frames(s.anim.durations_ms, self.checks.verdicts(), s.current,
                                                  s.selected, self.playing)
         if readout or full:
@@ -120,6 +121,8 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Patt
             flags.append("wrap")
         if self.onion:
             flags.append("onion")
+        if self.lit_corner is not None:
+            flags.append(f"as lit {self.lit_corner}")
         if s.clipboard is not None:
             flags.append(f"clip {s.clipboard.shape[0]}x{s.clipboard.shape[1]}")
         self._set_line("#tool", " · ".join(flags))

@@ -13,8 +13,10 @@ else:
 
 from pathlib import Path
 
+from ..errors import RowcastError
 from .dialogs import AskText
 from .session import BRUSH_NAMES
+from .text_dialog import TextForm, TextRequest
 
 __all__ = ["GenerateActions"]
 
@@ -38,17 +40,24 @@ class GenerateActions(_Editor):
                                      "GIF frame becomes a frame)", "", check=check, id="ask-import"), done)
 
     def action_text_scroller(self) -> None:
-        colour = BRUSH_NAMES[self.session.brush] if self.session.brush else "red"
+        s = self.session
+        colour = BRUSH_NAMES[s.brush] if s.brush else "red"
 
-        def check(text: str) -> str | None:
-            return None if text.strip() else "type the message to scroll"
+        def done(req: TextRequest | None) -> None:
+            if req is None:
+                return
+            from ..generate.text_fix import check_text
+            from ..generate.text_scroll import text_animation
+            try:
+                made = text_animation(req.message, s.profile, **req.options())
+            except RowcastError as err:
+                self.say(str(err), error=True)
+                return
+            self.run_edit(lambda: s.insert_animation(made, f"text \"{req.message[:20]}\""))
+            verdict = check_text(made, s.profile, req.message, **req.options())
+            if not verdict.ok:
+                fix = (f"it passes with {verdict.fix_words} (checked)" if verdict.fix_words else
+                       "no colour, size, gap or speed tried passes")
+                self.say(f"text added, over a limit: {fix} · {verdict.problem}", error=True)
 
-        def done(value: str | None) -> None:
-            if value:
-                from ..generate import text_animation
-                self.run_edit(lambda: self.session.insert_animation(
-                    text_animation(value, self.session.profile, colour=colour), f"text \"{value[:20]}\""))
-
-        self.app.push_screen(AskText("Scrolling text", f"message (scrolls in {colour}, the brush colour)", "",
-                                     check=check, id="ask-text"), done)
-
+        self.app.push_screen(TextForm(colour, s.anim.rows, s.anim.cols), done)

@@ -28,6 +28,8 @@ GROUPS: list[tuple[str, list[tuple[str, str, str, str | None]]]] = [
         ("e", "pen", "pen: paint every LED the cursor moves onto (on/off)", None),
         ("f", "fill", "fill the area of equal LEDs under the cursor", None),
         ("o", "onion", "onion skin of the previous frame (on/off)", None),
+        ("A", "as_lit", "as lit: brightness and colour from each LED's current (on/off)", None),
+        ("@", "lit_corner", "as lit at the next corner (typ, stress, bright)", None),
     ]),
     ("Region and clipboard", [
         ("m", "mark", "set / clear the mark (the region runs from mark to cursor)", None),

@@ -76,6 +76,7 @@ class LinkPanel(Vertical):
         self._stop_play: threading.Event | None = None
         self._pending: np.ndarray | None = None    # the newest frame, sent when live mode turns on
         self._shown: np.ndarray | None = None
+        self._shader = None                         # the editor's as-lit view (set_shader), None: flat
         self._gone = False                          # unmounted: widgets are going away
         self._reading = False                       # a READBACK is on its way
         self._readback_note = ""
@@ -339,8 +340,18 @@ class LinkPanel(Vertical):
             view.display = True
             if self._shown is None or not np.array_equal(news.frame, self._shown):
                 self._shown = np.array(news.frame)
-                view.show(self._shown)
+                self._draw_shown()
         self._refresh_labels()
+
+    def set_shader(self, shader) -> None:
+        """``shader(frame) -> shades`` draws the preview as lit (the editor's as-lit view); None: flat."""
+        self._shader = shader
+        if self._shown is not None:
+            self._draw_shown()
+
+    def _draw_shown(self) -> None:
+        shader = self._shader
+        self.query_one("#device", LedView).show(self._shown, shader(self._shown) if shader else None)
 
     def _refresh_labels(self) -> None:
         if not self.is_mounted or self._gone:

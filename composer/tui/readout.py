@@ -151,6 +151,8 @@ class Readout(Widget):
         t.append(f"worst row {res.worst_row}: {res.worst_row_ma:.1f} mA\n")
         t.append(f"pin max {res.pin_ma_max:.1f} mA · package max {res.package_ma_max:.1f} mA\n")
         t.append(f"supply peak {res.supply_peak_ma:.0f} mA · average {res.supply_avg_ma:.0f} mA\n")
+        even = " · ".join(f"{c} {u:.2f}" if u == u else f"{c} –" for c, u in zip(("red", "green"), res.led_uniformity))
+        t.append(f"LED evenness {even}\n")
         for line in res.messages[:3]:
             t.append(f"! {line}\n", _BAD)
         values = checks.worst_rows()

@@ -1,6 +1,7 @@
 """``rowcast sim [--profile P]``: start the receiver firmware in the AVR simulator.
 
-Builds the firmware (avr-gcc) and the simavr harness if they are out of date, starts the harness
+Builds the firmware (avr-gcc) and the simavr harness once per version of the sources, in the user's
+cache folder (``transport.simcache``; never inside the installed package), starts the harness
 with the profile's chain length of simulated 74HC595-class registers, and prints the serial port to
 give ``rowcast stream --port`` or the composer. Runs until Ctrl-C (or ``--seconds``), paced to
 wall-clock time so animations play at their real speed.
@@ -21,7 +22,7 @@ from pathlib import Path
 from composer.errors import EXIT_OK, InputError
 from composer.profile import load_profile
 
-from .. import simboard
+from .. import simboard, simcache
 
 __all__ = ["configure", "run"]
 
@@ -42,7 +43,8 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--seconds", type=float, metavar="S", help="stop after S seconds (default: at Ctrl-C)")
     parser.add_argument("--fast", action="store_true",
                         help="run as fast as the machine allows instead of at the board's real speed")
-    parser.add_argument("--build-dir", metavar="DIR", help=f"where make puts the build (default {simboard.BUILD_DEFAULT})")
+    parser.add_argument("--build-dir", metavar="DIR", help="where make puts the build (default: "
+                        "$XDG_CACHE_HOME/rowcast or ~/.cache/rowcast, one folder per version of the sources)")
 
 
 def run(args: argparse.Namespace) -> int:
@@ -56,8 +58,7 @@ def run(args: argparse.Namespace) -> int:
     if n_regs > MAX_REGISTERS or profile.rows > MAX_ROWS:
         raise InputError(f"profile {profile.name}: {profile.rows} rows x {n_regs} registers does not fit the "
                          f"receiver firmware ({MAX_ROWS} rows x {MAX_REGISTERS} registers at most)")
-    build_dir = Path(args.build_dir) if args.build_dir else simboard.BUILD_DEFAULT
-    simboard.build(build_dir)
+    build_dir = simcache.sim_build(Path(args.build_dir) if args.build_dir else None)
     board = simboard.SimBoard.start(profile, build_dir=build_dir,
                                     records=Path(args.records) if args.records else None,
                                     link=Path(args.link) if args.link else None, realtime=not args.fast)

@@ -20,7 +20,7 @@ __all__ = ["configure", "run"]
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.toml)")
+    parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.rowcast.toml) or bundled demo name")
     parser.add_argument("--port", required=True, metavar="URL",
                         help="serial port or pyserial URL (/dev/ttyACM0, COM3, socket://host:port, "
                              "rfc2217://host:port, simrx://NAME-or-PATH for a simulated receiver)")
