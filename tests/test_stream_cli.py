@@ -127,15 +127,15 @@ def test_simrx_opens_a_profile_file_by_path(capsys, tmp_path):
 
 
 def test_a_scan_the_receiver_cannot_do_is_refused_before_connecting(capsys, tmp_path):
-    """A row period beyond the receiver's 4000 us (the schema allows it): one line naming the key, exit 2,
+    """A row period beyond the receiver's 4000 us (the profile schema allows it): one line naming the key, exit 2,
     and no port opened (the simulated receiver under that name never exists)."""
     forget_receivers()
     text = (PATTERNS / "profiles" / "bench-8x8.toml").read_text()
     assert "row_period_us = 90.0" in text
     prof = tmp_path / "slow.toml"
-    prof.write_text(text.replace("row_period_us = 90.0", "row_period_us = 70000.0"))
+    prof.write_text(text.replace("row_period_us = 90.0", "row_period_us = 5000.0"))
     code, out, err = run(capsys, "stream", str(PATTERNS / "kettle-ready.rowcast.toml"), "--profile", str(prof),
                          "--port", "simrx://bench-8x8?name=cli-slow")
     assert code == 2, err
-    assert "scan.row_period_us 70000" in err and len(err.strip().splitlines()) == 1 and "Traceback" not in err
+    assert "scan.row_period_us 5000" in err and len(err.strip().splitlines()) == 1 and "Traceback" not in err
     assert receiver_named("cli-slow") is None
