@@ -283,7 +283,8 @@ class LinkPanel(Vertical):
             self._say(news.text, error=True)
         elif kind == "acked":
             self.blocked = ()
-            self._say(f"acknowledged: {news.text}")
+            # Without the sequence number: read-backs share the numbering, so it says nothing to the user.
+            self._say(f"acknowledged: {news.text.split(' (seq ')[0]}")
         elif kind in ("lost", "reconnecting"):
             self.state = kind
             self._say(news.text, error=True)
