@@ -34,7 +34,7 @@ def test_rowcast_demos_lists_every_demo_file_as_it_is():
         seconds = sum(f["ms"] for f in doc["frame"]) / 1000
         fields = line.split()
         assert fields[0] == path.name.removesuffix(".rowcast.toml")
-        assert fields[1] == f"{len(leds)}x{len(leds[0])}"
+        assert fields[1] == f"{len(leds[0])}x{len(leds)}"            # columns x rows, the one size order
         assert fields[2:4] == [str(len(doc["frame"])), "frames"]
         assert float(fields[4]) == pytest.approx(seconds, abs=0.05)
         assert fields[6] == doc["profile"] and line.endswith(doc["name"])

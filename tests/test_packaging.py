@@ -208,7 +208,7 @@ def test_the_installed_wheel_runs_every_command_from_another_folder(dists, tmp_p
     listed = {line.split()[0]: line.split()[1] for line in done.stdout.splitlines()}
     for path in sorted((ROOT / "patterns" / "profiles").glob("*.toml")):
         panel = tomllib.loads(path.read_text())["panel"]
-        assert listed.pop(path.stem) == f"{panel['rows']}x{panel['cols']}", path.stem
+        assert listed.pop(path.stem) == f"{panel['cols']}x{panel['rows']}", path.stem   # columns x rows
     assert listed == {}
 
     # check and export --c on a bundled demo by name: the same as the checkout's own code gives
