@@ -43,17 +43,26 @@ def test_rowcast_demos_lists_every_demo_file_as_it_is():
 
 @pytest.mark.parametrize("demo", [p.name.removesuffix(".rowcast.toml") for p in DEMOS])
 def test_a_demo_name_works_where_a_pattern_file_does(demo, tmp_path):
+    """The command line given a demo's name writes what rowcast given the file's path writes."""
+    from composer.cli import main
     path = PATTERNS / f"{demo}.rowcast.toml"
-    by_name, by_path = rowcast("check", demo, "--json", cwd=tmp_path), rowcast("check", str(path), "--json")
-    assert by_name.returncode == by_path.returncode and by_name.returncode in (0, 1), by_name.stderr
+    by_name = rowcast("export", demo, "--c", "a.h", "--json", "a.json", cwd=tmp_path)
+    by_path = main(["export", str(path), "--c", str(tmp_path / "b.h"), "--json", str(tmp_path / "b.json")])
+    assert by_name.returncode == by_path and by_path in (0, 1), by_name.stderr
+    assert (tmp_path / "a.h").read_bytes() == (tmp_path / "b.h").read_bytes()
+    assert (tmp_path / "a.json").read_bytes() == (tmp_path / "b.json").read_bytes()
+
+
+def test_check_takes_a_demo_name(tmp_path, capsys):
     import json
-    a, b = json.loads(by_name.stdout), json.loads(by_path.stdout)
-    a["summary"].pop("pattern"), b["summary"].pop("pattern")
+
+    from composer.cli import main
+    by_name = rowcast("check", "workshop-open", "--json", cwd=tmp_path)
+    assert main(["check", str(PATTERNS / "workshop-open.rowcast.toml"), "--json"]) == by_name.returncode == 0
+    a, b = json.loads(by_name.stdout), json.loads(capsys.readouterr().out)
+    assert a["summary"].pop("pattern") == "workshop-open"
+    b["summary"].pop("pattern")
     assert a == b
-    out_name, out_path = tmp_path / "a.h", tmp_path / "b.h"
-    assert rowcast("export", demo, "--c", str(out_name), cwd=tmp_path).returncode in (0, 1)
-    assert rowcast("export", str(path), "--c", str(out_path)).returncode in (0, 1)
-    assert out_name.read_bytes() == out_path.read_bytes()
 
 
 def test_a_file_in_the_folder_wins_over_a_demo_of_the_same_name(tmp_path):
@@ -81,3 +90,35 @@ def test_edit_opens_a_demo_read_only_and_a_new_name_as_a_new_file(tmp_path, monk
     command.run(argparse.Namespace(file="my-sign", profile=None, port=None))
     assert str(started[-1].path) == "my-sign" and not started[-1].read_only
     assert os.listdir(tmp_path) == []                    # nothing written by opening
+
+
+def test_the_composers_open_takes_a_demo_name_read_only(tmp_path, monkeypatch):
+    import numpy as np
+
+    from composer.bundled import DEMO_PATTERN
+    from composer.pattern_file import load_pattern
+    from tui_helpers import app_for, async_test, make_pattern
+
+    monkeypatch.chdir(tmp_path)
+    original = DEMO_PATTERN.read_bytes()
+
+    @async_test
+    async def drive():
+        app = app_for(make_pattern(tmp_path))
+        async with app.run_test(size=(120, 40)) as pilot:
+            await pilot.pause()
+            await pilot.press("ctrl+o")
+            await pilot.pause()
+            app.screen.query_one("#ask-input").value = "workshop-open"
+            await pilot.press("enter")
+            await pilot.pause()
+            s = app.editor.session
+            assert s.path == DEMO_PATTERN and app.startup.read_only
+            assert np.array_equal(s.anim.frames, load_pattern(DEMO_PATTERN).frames)
+            await pilot.press("space", "ctrl+s")
+            await pilot.pause()
+            assert app.screen.id == "ask-save-as"                # never onto the bundled file
+            await pilot.press("escape")
+
+    drive()
+    assert DEMO_PATTERN.read_bytes() == original

@@ -134,3 +134,25 @@ def test_as_lit_without_light_keys_exits_2_and_writes_nothing(tmp_path, capsys):
     assert main(["export", str(pat), "--gif", str(tmp_path / "x.gif")]) == 0      # flat previews still work
     assert main(["export", str(pat), "--c", str(tmp_path / "x.h"), "--as-lit"]) == 2
     assert "--as-lit applies to --gif and --png" in capsys.readouterr().err
+
+
+def test_gif_frame_with_more_colours_than_a_palette_holds_rounds_them():
+    # 256 distinct LED colours in one frame: GIF89a allows 256 palette entries per frame, so the colours
+    # are rounded to coarser steps until they fit, and each LED stays within that rounding
+    from composer.electrical.light import Lit
+    rng = np.random.default_rng(4)
+    frames = np.ones((2, 16, 16), np.uint8)
+    srgb = np.zeros((2, 16, 16, 3), np.uint8)
+    srgb[0] = np.arange(256).reshape(16, 16, 1) * np.array([1, 0, 1]) + np.array([0, 40, 0])
+    srgb[1] = rng.integers(0, 256, (16, 16, 3))
+    lit = Lit(np.zeros((2, 16, 16, 2)), srgb, np.full((2, 16, 16), 50.0), np.ones((2, 16, 16), bool), "typ")
+    anim = Animation(frames, np.array([100, 100]), name="many")
+    img = Image.open(io.BytesIO(gif_bytes(anim, SCALE, lit)))
+    got = [f.copy() for f in ImageSequence.Iterator(img)]
+    ramp = _centres(got[0], 16, 16).astype(int)
+    # 127 colour entries besides the board: 256 ramp steps -> 64, two low bits dropped
+    assert np.abs(ramp - srgb[0]).max() <= 3
+    assert len(np.unique(ramp.reshape(-1, 3), axis=0)) == 64
+    noise = _centres(got[1], 16, 16).astype(int)
+    assert len(np.unique(noise.reshape(-1, 3), axis=0)) <= 127
+    assert np.abs(noise - srgb[1]).max() < 64                   # random colours: coarse, but each near its own

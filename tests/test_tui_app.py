@@ -203,7 +203,7 @@ async def test_frame_keys(tmp_path):
         await pilot.press("home", "s", "end", "s")
         assert s.selected == {0, 3}
         await pilot.pause()
-        assert "   0* " in screen_text(app)
+        assert "   0*" in screen_text(app)
         await pilot.press("equals_sign")
         await pilot.pause()
         assert app.screen.id == "ask-duration"
@@ -529,7 +529,7 @@ async def test_resize_switches_layout(tmp_path):
         assert ed.has_class("-wide")
         assert ed.query_one("#link-pane").region.width > 0 and ed.query_one("#readout-pane").region.width > 0
         text = screen_text(app)
-        assert "link to the panel" in text and "row current" in text
+        assert "link to the panel" in text and "row headroom" in text
 
 
 @async_test

@@ -114,8 +114,8 @@ def _light_model(profile: Profile) -> LightModel:
     if not top > 0.0:
         raise InputError("no LED gives any light (intensity_mcd is 0 at every current)", path=profile.source,
                          where="led.red.intensity_mcd")
-    y_per_mcd = np.array([1.0, 1.0])              # luminance Y of a die is its intensity (Y = 1 per mcd)
-    return LightModel(leds, xy, rgb_per_mcd, d, 1.0 / top, float((candidates @ y_per_mcd).max()))
+    # luminance Y of a die is its luminous intensity (Y = 1 per mcd), so an LED's Y is the sum over its dies
+    return LightModel(leds, xy, rgb_per_mcd, d, 1.0 / top, float(candidates.sum(axis=1).max()))
 
 
 @dataclass(frozen=True)

@@ -32,6 +32,7 @@ LEVELS = 16                                  # coverage levels of the anti-alias
 MIN_SCALE, MAX_SCALE, DEFAULT_SCALE = 2, 64, 12
 MAX_PIXELS = 200_000_000                     # pixels over all frames; beyond this, ask for a smaller --scale
 _TWIN = 4 * LEVELS                           # indices _TWIN + i repeat the colours of i (see gif_bytes)
+_LIT_TWIN = 128                              # the same for as-lit palettes: 128 entries and their twins
 _SUPERSAMPLE = 4
 
 
@@ -114,7 +115,7 @@ def gif_bytes(anim: Animation, scale: int = DEFAULT_SCALE, lit: Lit | None = Non
     else:
         planes = list(_lit_planes(lit, anim.frames.shape, scale))
         for f in np.flatnonzero(twin):
-            planes[f][0][0, 0] += _TWIN
+            planes[f][0][0, 0] += _LIT_TWIN
     images = []
     for plane, pal in planes:
         img = Image.fromarray(plane, "P")
@@ -127,30 +128,53 @@ def gif_bytes(anim: Animation, scale: int = DEFAULT_SCALE, lit: Lit | None = Non
 
 
 def _lit_planes(lit: Lit, shape: tuple[int, int, int], scale: int):
-    """Per frame: (palette indices (rows*scale, cols*scale), palette) of the as-lit picture."""
+    """Per frame: (palette indices (rows*scale, cols*scale), palette bytes) of the as-lit picture.
+    Vectorised over frames; only the palettes are put together frame by frame."""
     n, rows, cols = shape
     _check_pixels(n, rows, cols, scale)
-    dot = _dot_levels(scale).astype(np.int32)                      # 0..LEVELS-1
-    board = np.array(BOARD_RGB, float)
-    for f in range(n):
-        colours = lit.srgb[f].reshape(-1, 3).astype(np.uint32)
-        for step in range(8):                                        # coarser colours until they fit
-            q = (colours >> step) << step
-            uniq, inv = np.unique((q[:, 0] << 16) | (q[:, 1] << 8) | q[:, 2], return_inverse=True)
-            if uniq.size <= _TWIN - 1:
+    rgb = lit.srgb.reshape(n, rows * cols, 3).astype(np.uint32)
+    count, slot, uniq = _frame_colours(rgb)
+    for f in np.flatnonzero(count > _LIT_TWIN - 1):                 # rare: coarser colours until they fit
+        for step in range(1, 8):
+            rgb[f] = (lit.srgb[f].reshape(-1, 3).astype(np.uint32) >> step) << step
+            if len(np.unique(rgb[f], axis=0)) <= _LIT_TWIN - 1:
                 break
-        top = min(LEVELS - 1, (_TWIN - 1) // uniq.size)              # coverage levels 1..top per colour
-        level = np.rint(dot * top / (LEVELS - 1)).astype(np.int32)  # (scale, scale)
-        slot = inv.reshape(rows, cols).astype(np.int32)
-        idx = np.where(level[None, :, None, :] == 0, 0,
-                       1 + slot[:, None, :, None] * top + level[None, :, None, :] - 1)
-        rgb = np.stack([(uniq >> 16) & 255, (uniq >> 8) & 255, uniq & 255], axis=-1).astype(float)
-        t = (np.arange(1, top + 1) / top)[None, :, None]
-        entries = board * (1 - t) + rgb[:, None, :] * t                # (colours, top, 3)
-        pal = np.concatenate([board[None], entries.reshape(-1, 3)])
-        pal = np.rint(pal).astype(np.uint8).ravel().tolist()
-        pal = pal + [0] * (3 * _TWIN - len(pal))
-        yield idx.reshape(rows * scale, cols * scale).astype(np.uint8), pal + pal + [0, 0, 0] * (256 - 2 * _TWIN)
+    if (count > _LIT_TWIN - 1).any():
+        count, slot, uniq = _frame_colours(rgb)
+    top = np.minimum(LEVELS - 1, (_LIT_TWIN - 1) // count)           # coverage levels 1..top per colour
+    # palette index: 0 (the board) where the dot does not cover the pixel, else slot * top + level;
+    # uint8 throughout (every index is below 128), one broadcast pass like the flat preview's
+    level = np.rint(_dot_levels(scale)[None] * (top[:, None, None] / (LEVELS - 1))).astype(np.uint8)
+    lv = level[:, None, :, None, :]                                  # (F, 1, scale, 1, scale)
+    start = (slot * top[:, None]).astype(np.uint8).reshape(n, rows, 1, cols, 1)
+    idx = ((start + lv) * (lv != 0)).reshape(n, rows * scale, cols * scale)
+    # palette entries of every (frame, colour) at every coverage level that frame uses
+    board = np.array(BOARD_RGB, float)
+    colour = np.stack([(uniq >> 16) & 255, (uniq >> 8) & 255, uniq & 255], axis=-1).astype(float)
+    first = np.concatenate(([0], np.cumsum(count)[:-1]))
+    t = np.arange(1, LEVELS)[None, :, None] / np.repeat(top, count)[:, None, None]
+    entries = np.rint(board * (1 - t) + colour[:, None, :] * t).clip(0, 255).astype(np.uint8)   # (G, 15, 3)
+    pal = np.zeros((256, 3), np.uint8)
+    for f in range(n):
+        pal[:] = 0
+        pal[0] = BOARD_RGB
+        used = entries[first[f]:first[f] + count[f], :top[f]].reshape(-1, 3)
+        pal[1:1 + len(used)] = used
+        pal[_LIT_TWIN:] = pal[:_LIT_TWIN]                            # the twin entries (see gif_bytes)
+        yield idx[f], pal.tobytes()
+
+
+def _frame_colours(rgb: np.ndarray):
+    """Distinct colours per frame of (F, N, 3) colours: (count (F,), slot (F, N) of each LED among its
+    frame's colours, the colours of all frames in order as 0xRRGGBB)."""
+    n = rgb.shape[0]
+    key = (rgb[..., 0] << 16) | (rgb[..., 1] << 8) | rgb[..., 2]
+    tagged = (np.arange(n, dtype=np.uint64)[:, None] << np.uint64(24)) | key.astype(np.uint64)
+    uniq, inv = np.unique(tagged, return_inverse=True)
+    count = np.bincount((uniq >> np.uint64(24)).astype(np.intp), minlength=n)
+    first = np.concatenate(([0], np.cumsum(count)[:-1]))
+    slot = inv.reshape(n, -1) - first[:, None]
+    return count, slot, (uniq & np.uint64(0xFFFFFF)).astype(np.uint32)
 
 
 def sheet_layout(n_frames: int, rows: int, cols: int, scale: int, label_w: int = 0) -> tuple[int, int, int, int]:

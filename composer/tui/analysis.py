@@ -34,6 +34,9 @@ class FrameResult:
     rules: tuple[str, ...]        # broken rules, in the engine's order
     messages: tuple[str, ...]     # one line per violation
     led_uniformity: tuple[float, float] = (float("nan"), float("nan"))   # red, green: dimmest / brightest lit
+    utilisation: float = 0.0      # the binding rule's measured / limit (1.0 = at the limit)
+    binding: str = ""             # the rule closest to (or furthest over) its limit
+    row_use: np.ndarray | None = None   # (rows,) per row, its own parts' highest utilisation
 
 
 def _per_frame(value, n: int) -> np.ndarray:
@@ -56,11 +59,13 @@ def _split(report, n: int) -> list[FrameResult]:
         rules[int(frame)].append(str(v.rule))
         messages[int(frame)].append(f"{v.rule} {v.where}: {float(v.measured):.1f} {v.unit} > "
                                     f"{float(v.limit):.1f} {v.unit}")
+    row_use = np.asarray(report.row_utilisation, float).reshape(n, -1)
     return [FrameResult(row_ma[i].copy(), int(fields["worst_row"][i]), float(fields["worst_row_ma"][i]),
                         float(fields["pin_ma_max"][i]), float(fields["package_ma_max"][i]),
                         float(fields["supply_peak_ma"][i]), float(fields["supply_avg_ma"][i]), bool(ok[i]),
                         tuple(rules[i]), tuple(messages[i]),
-                        (float(evenness[i, 0]), float(evenness[i, 1]))) for i in range(n)]
+                        (float(evenness[i, 0]), float(evenness[i, 1])), float(report.utilisation[i]),
+                        report.binding(i), row_use[i].copy()) for i in range(n)]
 
 
 @dataclass
@@ -112,12 +117,17 @@ class FrameChecks:
 
     # -- summaries --------------------------------------------------------------------------
     def verdicts(self) -> list[str | None]:
-        """Per frame: None unknown, "" within limits, else the first broken rule."""
-        return [None if r is None else ("" if r.ok else (r.rules[0] if r.rules else "limit"))
+        """Per frame: None unknown, "" within limits, else the binding rule (the one furthest over)."""
+        return [None if r is None else ("" if r.ok else (r.binding or (r.rules[0] if r.rules else "limit")))
                 for r in self.results]
 
     def worst_rows(self) -> np.ndarray:
         return np.array([np.nan if r is None else r.worst_row_ma for r in self.results])
+
+    def utilisations(self) -> np.ndarray:
+        """Per frame the binding rule's utilisation (NaN not analysed yet): what the sparkline and
+        the frame strip's marks draw, so a frame over any limit always shows as over."""
+        return np.array([np.nan if r is None else r.utilisation for r in self.results])
 
     def next_bad(self, after: int) -> int | None:
         n = len(self.results)

@@ -37,8 +37,9 @@ class AnimationChecks(_Editor):
     def _animation_check(self, frames: np.ndarray, durations: np.ndarray, serial: int) -> None:
         from ..electrical import analyse
         notes: list[str] = []
+        profile = self.session.profile
         try:
-            report = analyse(frames, durations, self.session.profile, corner="stress")
+            report = analyse(frames, durations, profile, corner="stress")
             timing = getattr(report, "timing", None)
             if timing is not None:
                 region = getattr(timing, "flicker_region", None) or getattr(timing, "flicker", "")
@@ -52,7 +53,19 @@ class AnimationChecks(_Editor):
                                  f"{float(v.limit):.1f} {v.unit}")
         except RowcastError as err:
             notes.append(f"! {err}")
+            report = None
         self.app.call_from_thread(self._animation_checked, notes, serial)
+        if report is not None and not report.frame_ok.all():
+            self._pattern_fix(profile, frames, durations, serial)
+
+    def _pattern_fix(self, profile, frames: np.ndarray, durations: np.ndarray, serial: int) -> None:
+        """The whole pattern's fix (runs on the animation-check worker's thread, after the notes)."""
+        from ..electrical.fixes import resistor_fix
+        try:
+            fix = resistor_fix(profile, frames, durations)
+        except RowcastError:
+            return
+        self.app.call_from_thread(self.pattern_fix_found, profile, serial, fix)
 
     def _animation_checked(self, notes: list[str], serial: int) -> None:
         if serial != self.session.history.serial:
@@ -63,16 +76,19 @@ class AnimationChecks(_Editor):
                                      self._guard_notes() + notes)
 
     def _guard_notes(self) -> list[str]:
-        """The guard's verdict on the frame (the stress corner, what the link applies before sending)."""
+        """The guard's verdict on the frame (the stress corner, what the link applies before sending).
+        The guard sees one frame, so its findings say "frame 0"; they are named by the frame shown."""
+        import dataclasses
         frame = self.session.frame
-        key = frame.tobytes()
+        key = (self.session.current, frame.tobytes())
         line = self._guard_cache.get(key)
         if line is None:
             from ..electrical import guard
             try:
                 verdict = guard(frame, self.session.profile)
+                here = [str(dataclasses.replace(v, frame=self.session.current)) for v in verdict.violations[:2]]
                 line = ("guard (stress corner): would send" if verdict.ok else
-                        "! guard (stress corner) would block: " + "; ".join(str(r) for r in verdict.reasons[:2]))
+                        "! guard (stress corner) would block: " + "; ".join(here))
             except RowcastError as err:
                 line = f"! guard: {err}"
             if len(self._guard_cache) > 512:

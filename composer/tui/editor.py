@@ -22,6 +22,7 @@ from .file_actions import FileActions
 from .frame_actions import FrameActions
 from .frames import FrameStrip
 from .generate_actions import GenerateActions
+from .headroom_actions import HeadroomActions
 from .keys import editor_bindings
 from .light_actions import LightActions
 from .link_actions import LinkActions
@@ -34,7 +35,7 @@ __all__ = ["EditorScreen"]
 
 
 class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, LightActions, PatternActions,
-                   FileActions, AnimationChecks, Screen):
+                   FileActions, AnimationChecks, HeadroomActions, Screen):
     BINDINGS = editor_bindings()
     HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (118, "-wide")]
 
@@ -52,7 +53,9 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         self.animation_notes: list[str] = []
         self.message = ""
         self._lines: dict[str, str] = {}
-        self._guard_cache: dict[bytes, str] = {}
+        self._guard_cache: dict[tuple[int, bytes], str] = {}
+        self._cursor_cache: dict[str, tuple] = {}            # per-LED currents of the frame shown
+        self._fix_cache: dict[object, object] = {}            # fixes by frame content / pattern serial
 
     # -- layout -----------------------------------------------------------------------------
     def compose(self) -> ComposeResult:
@@ -92,10 +95,12 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         onion = s.previous_frame if self.onion else None
         self.canvas.show_state(s.frame, onion, s.cursor, s.mark, self.lit_shade(s.frame))
         self.query_one(FrameStrip).update_frames(s.anim.durations_ms, self.checks.verdicts(), s.current,
-                                                 s.selected, self.playing)
+                                                 s.selected, self.playing, self.checks.utilisations())
         if readout or full:
             self.query_one(Readout).show(self.checks, s.current, int(s.anim.durations_ms[s.current]),
                                          self._guard_notes() + self.animation_notes)
+            self.update_fix_readout()
+        self.update_cursor_readout()
         self._update_title()
         self._update_tool()
 

@@ -2,17 +2,20 @@
 three lines, scrolled so the frame on the canvas is always in view.
 
 A verdict reads without colour: ``ok`` within every limit, ``!row`` / ``!pin`` ... names the
-first rule the frame breaks, ``..`` not checked yet (no engine). ``*`` marks frames picked for
-"set duration"; the frame on the canvas is in inverse colours.
+rule the frame breaks furthest (the binding rule), ``..`` not checked yet. After each frame number
+a headroom mark fills with how much of its nearest limit the frame uses (stress corner): ``○`` up to
+25 %, ``◔`` 50 %, ``◑`` 75 %, ``◕`` 100 %, ``◉`` over a limit. ``*`` marks picked frames; the frame
+on the canvas is in inverse colours.
 """
 from __future__ import annotations
 
+import numpy as np
 from rich.segment import Segment
 from rich.style import Style
 from textual.strip import Strip
 from textual.widget import Widget
 
-__all__ = ["FrameStrip", "CELL", "short_rule"]
+__all__ = ["FrameStrip", "CELL", "short_rule", "headroom_mark"]
 
 CELL = 7                                   # characters per frame, separator included
 _OK = Style(color="#3ad13a")
@@ -33,6 +36,22 @@ def short_rule(rule: str) -> str:
     return _SHORT.get(rule, rule.replace("-", "")[:5])
 
 
+# The headroom mark: how much of its nearest limit a frame uses, as a filling circle, so it reads
+# without colour. Over a limit the circle is full and becomes a target: the mark of a frame to fix.
+_MARKS = ((0.25, "○", Style(color="#3ad13a")), (0.5, "◔", Style(color="#3ad13a")),
+          (0.75, "◑", Style(color="#d1c03a")), (1.0, "◕", Style(color="#e08a1e")))
+_OVER = ("◉", Style(color="#ff3a3a", bold=True))
+
+
+def headroom_mark(use: float) -> tuple[str, Style]:
+    """One cell for a frame's binding utilisation (NaN: not analysed yet)."""
+    if use != use:
+        return "·", _DIM
+    if use > 1.0:
+        return _OVER
+    return next(((g, st) for top, g, st in _MARKS if use <= top), _OVER)
+
+
 class FrameStrip(Widget, can_focus=False):
     DEFAULT_CSS = """
     FrameStrip { height: 3; width: 1fr; }
@@ -45,12 +64,16 @@ class FrameStrip(Widget, can_focus=False):
         self.current = 0
         self.selected: set[int] = set()
         self.playing = False
+        self.marks: list[tuple[str, Style]] = []    # the headroom mark of every frame
 
-    def update_frames(self, durations, verdicts, current: int, selected: set[int], playing: bool = False) -> None:
-        state = ([int(d) for d in durations], list(verdicts), current, set(selected), playing)
-        if state == (self.durations, self.verdicts, self.current, self.selected, self.playing):
+    def update_frames(self, durations, verdicts, current: int, selected: set[int], playing: bool = False,
+                      use=None) -> None:
+        use = use if use is not None else [np.nan] * len(verdicts)
+        marks = [_OVER if v else headroom_mark(u) for u, v in zip(use, verdicts)]   # v: a broken rule
+        state = ([int(d) for d in durations], list(verdicts), current, set(selected), playing, marks)
+        if state == (self.durations, self.verdicts, self.current, self.selected, self.playing, self.marks):
             return                            # a cursor move: the strip stays as it is
-        self.durations, self.verdicts, self.current, self.selected, self.playing = state
+        self.durations, self.verdicts, self.current, self.selected, self.playing, self.marks = state
         self.refresh()
 
     def _first_visible(self) -> int:
@@ -67,9 +90,12 @@ class FrameStrip(Widget, can_focus=False):
             cur = i == self.current
             if y == 0:
                 mark = "*" if i in self.selected else " "
-                text, style = f"{i:>4}{mark} ", _DIM
+                text, style = f"{i:>4}{mark}", _DIM
                 if cur:
-                    text, style = f"{'▶' if self.playing else '>'}{i:>3}{mark} ", _CUR
+                    text, style = f"{'▶' if self.playing else '>'}{i:>3}{mark}", _CUR
+                glyph, g_style = self.marks[i] if i < len(self.marks) else headroom_mark(np.nan)
+                segments.append(Segment(text, style))
+                text, style = glyph, (g_style + _CUR if cur else g_style)
             elif y == 1:
                 ms = self.durations[i]
                 label = f"{ms}ms" if ms < 10_000 else f"{ms // 1000}s"

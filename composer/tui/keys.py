@@ -96,6 +96,7 @@ GROUPS: list[tuple[str, list[tuple[str, str, str, str | None]]]] = [
         ("ctrl+n", "new_pattern", "new pattern (asks for the profile: panel size and wiring)", None),
         ("ctrl+o", "open_pattern", "open another pattern file", None),
         ("#", "change_profile", "change the profile; another panel size pads or crops the frames", None),
+        ("F", "apply_fix", "fix: write a profile with resistors that pass, and use it", None),
         ("?,f1", "help", "keys (this list)", "keys"),
         ("q,ctrl+q", "quit", "quit (asks about unsaved changes)", "quit"),
     ]),

@@ -9,6 +9,7 @@ from __future__ import annotations
 from pathlib import Path
 from typing import TYPE_CHECKING, Callable
 
+from ..bundled import bundled_demo
 from ..errors import RowcastError
 from ..model import ANCHORS, size_text
 from ..pattern_file import open_pattern
@@ -90,8 +91,9 @@ class PatternActions(_Editor):
             if not text:
                 return "type the path of a pattern file"
             path = Path(text).expanduser()
+            demo = None if path.exists() else bundled_demo(text)    # a bundled demo by name, read-only
             try:
-                opened["v"] = (path, *open_pattern(path))
+                opened["v"] = (demo or path, demo is not None, *open_pattern(demo or path))
             except RowcastError as err:
                 return str(err)
             return None
@@ -99,12 +101,13 @@ class PatternActions(_Editor):
         def chosen(value: str | None) -> None:
             if value:
                 from .session import Session
-                path, anim, profile = opened["v"]
+                path, read_only, anim, profile = opened["v"]
                 self.app.start_session(Session(anim, profile, path))
+                self.app.startup.read_only = read_only              # saving a demo asks for a new name
 
         here = str(self.session.path.parent) + "/" if self.session.path is not None else ""
         self.unsaved_then("Open another pattern", lambda: self.app.push_screen(
-            AskText("Open a pattern", "pattern file (*.rowcast.toml)", here, check=check, id="ask-open"), chosen))
+            AskText("Open a pattern", "pattern file (*.rowcast.toml) or a bundled demo's name", here, check=check, id="ask-open"), chosen))
 
     def action_change_profile(self) -> None:
         s = self.session

@@ -1,8 +1,12 @@
-"""The current readout for the frame on the canvas, and a sparkline of the worst row per frame.
+"""The headroom readout for the frame on the canvas, and a sparkline of every frame's headroom.
 
-Bars compare each row's current with the row limit; a bar over the limit turns red and ends in
-``!`` so it reads without colour. The sparkline's lower line rises to the limit, its upper line
-shows how far a frame goes over it, so the limit is the boundary between the two lines.
+Every figure is the engine's at the stress corner (what ``rowcast check`` and the link's guard judge)
+and says so. Bars show, per row, how close the nearest of that row's parts is to its own limit (the
+driver channel, the supply while the row is on, its LEDs, the register pins and packages), so a row
+over any limit turns red and ends in ``!`` and reads without colour. The sparkline shows each frame's
+binding utilisation: its lower line rises to 100 %, its upper line shows how far a frame goes over,
+so the limit is the boundary between the two lines. The cursor line gives the LED under the cursor
+and its register package's total; the fix lines come from ``composer.electrical.fixes``.
 """
 from __future__ import annotations
 
@@ -14,7 +18,7 @@ from textual.geometry import Region, Size
 from textual.strip import Strip
 from textual.widget import Widget
 
-from .analysis import FrameChecks, FrameResult
+from .analysis import CORNER, FrameChecks, FrameResult
 
 __all__ = ["Readout", "sparkline"]
 
@@ -63,6 +67,9 @@ class Readout(Widget):
         self._args: tuple | None = None
         self._base: Style | None = None
         self._height = 0
+        self._cursor = ""                     # the LED under the cursor (show_cursor)
+        self._cursor_rows = 0                 # lines it took at the last rebuild (1: replace in place)
+        self._fix: list[str] = []             # the way to a fix for this frame and the pattern
 
     def show(self, checks: FrameChecks, current: int, ms: int, animation_notes: list[str]) -> None:
         self._args = (checks, current, ms, list(animation_notes))
@@ -80,11 +87,13 @@ class Readout(Widget):
         self._width = width
         text = self._text(*self._args, width=width)
         lines = []
-        for line in text.split("\n", allow_blank=True):
+        for k, line in enumerate(text.split("\n", allow_blank=True)):
             if line.cell_len <= width:
                 lines.append(line)
             else:                             # long notes wrap; nothing is cut off
                 lines.extend(line.wrap(self.app.console, width))
+            if k == 0:
+                self._cursor_rows = len(lines)
         while lines and not lines[-1].plain:
             lines.pop()
         for line in lines:
@@ -133,31 +142,60 @@ class Readout(Widget):
         width = max(20, width)
         res: FrameResult | None = checks.results[current] if current < len(checks.results) else None
         if res is None:
+            t.append((self._cursor or " ") + "\n")
             t.append("analysing…\n", "dim")
             return t
-        limit = checks.row_limit_ma or max(1.0, float(res.row_ma.max(initial=1.0)))
-        head = f"frame {current} · {ms} ms · "
-        t.append(head, "bold")
-        t.append("within limits" if res.ok else "OVER: " + ", ".join(dict.fromkeys(res.rules)),
-                 _OK if res.ok else _BAD)
-        t.append(f"\nrow current (limit {limit:.0f} mA)\n", "dim")
-        bar_w = max(6, min(30, width - 15))
-        for r, ma in enumerate(res.row_ma.tolist()):
-            bar, over = _bar(ma, limit, bar_w)
-            mark = "◀" if r == res.worst_row else " "
-            t.append(f"{r:>2} ", "dim")
-            t.append(bar, _BAD if over else _OK)
-            t.append(f" {ma:6.1f}{mark}\n", _BAD if over else "")
-        t.append(f"worst row {res.worst_row}: {res.worst_row_ma:.1f} mA\n")
-        t.append(f"pin max {res.pin_ma_max:.1f} mA · package max {res.package_ma_max:.1f} mA\n")
-        t.append(f"supply peak {res.supply_peak_ma:.0f} mA · average {res.supply_avg_ma:.0f} mA\n")
-        even = " · ".join(f"{c} {u:.2f}" if u == u else f"{c} –" for c, u in zip(("red", "green"), res.led_uniformity))
-        t.append(f"LED evenness {even}\n")
+        corner = CORNER
+        t.append((self._cursor or " ") + "\n")           # line 0: the LED under the cursor (show_cursor)
+        self._headline(t, res, current, ms, corner)
+        self._row_bars(t, res, width, corner)
+        self._totals(t, res, corner)
         for line in res.messages[:3]:
             t.append(f"! {line}\n", _BAD)
-        values = checks.worst_rows()
-        upper, lower, col = sparkline(values, limit, max(8, width - 8), current)
-        t.append("worst row by frame\n", "dim")
+        for line in self._fix:
+            t.append(line + "\n", "bold" if line.startswith("fix") else "")
+        self._use_sparkline(t, checks, current, width, corner)
+        for line in notes:
+            t.append("\n" + line, _BAD if line.startswith("!") else "dim")
+        return t
+
+    @staticmethod
+    def _headline(t: Text, res: FrameResult, current: int, ms: int, corner: str) -> None:
+        t.append(f"frame {current} · {ms} ms · ", "bold")
+        t.append("within limits" if res.ok else "OVER: " + ", ".join(dict.fromkeys(res.rules)),
+                 _OK if res.ok else _BAD)
+        t.append(f"\nnearest limit: {res.binding} {100 * res.utilisation:.0f} % ({corner})\n",
+                 _BAD if not res.ok else "")
+
+    @staticmethod
+    def _row_bars(t: Text, res: FrameResult, width: int, corner: str) -> None:
+        """One bar per row: the highest utilisation among that row's own parts (driver channel,
+        supply while on, LEDs, register pins and packages), so a row over any of them ends in ``!``."""
+        t.append(f"row headroom ({corner}; full bar 100 %)   mA\n", "dim")
+        use = res.row_use if res.row_use is not None else np.zeros_like(res.row_ma)
+        worst = int(np.argmax(use)) if use.size else 0
+        bar_w = max(6, min(30, width - 19))
+        for r, (u, ma) in enumerate(zip(use.tolist(), res.row_ma.tolist())):
+            bar, over = _bar(u, 1.0, bar_w)
+            mark = "◀" if r == worst and u > 0 else " "
+            t.append(f"{r:>2} ", "dim")
+            t.append(bar, _BAD if over else _OK)
+            t.append(f" {100 * u:4.0f}%{ma:6.1f}{mark}\n", _BAD if over else "")
+
+    @staticmethod
+    def _totals(t: Text, res: FrameResult, corner: str) -> None:
+        t.append(f"worst row {res.worst_row}: {res.worst_row_ma:.1f} mA · pin max {res.pin_ma_max:.1f} mA · "
+                 f"package max {res.package_ma_max:.1f} mA ({corner})\n")
+        t.append(f"supply peak {res.supply_peak_ma:.0f} mA · average {res.supply_avg_ma:.0f} mA ({corner})\n")
+        even = " · ".join(f"{c} {u:.2f}" if u == u else f"{c} –" for c, u in zip(("red", "green"), res.led_uniformity))
+        t.append(f"LED evenness {even} ({corner})\n")
+
+    @staticmethod
+    def _use_sparkline(t: Text, checks: FrameChecks, current: int, width: int, corner: str) -> None:
+        """The binding utilisation of every frame: the lower line rises to 100 %, the upper line
+        shows how far a frame goes over, so every frame over any limit marks the upper line."""
+        upper, lower, col = sparkline(checks.utilisations(), 1.0, max(8, width - 8), current)
+        t.append(f"nearest limit by frame ({corner} corner)\n", "dim")
         t.append("  over ")
         t.append(upper, _BAD)
         t.append("\n limit ")
@@ -165,6 +203,24 @@ class Readout(Widget):
         t.append(lower[col:col + 1] or " ", "reverse")
         t.append(lower[col + 1:], _OK)
 
-        for line in notes:
-            t.append("\n" + line, _BAD if line.startswith("!") else "dim")
-        return t
+    # -- the LED under the cursor and the fix: updated without rebuilding the rest ---------------
+    def show_cursor(self, text: str) -> None:
+        """Replace the cursor line (a cursor move refreshes one line, not the readout)."""
+        if text == self._cursor:
+            return
+        self._cursor = text
+        new = Text(text)
+        rows = [new] if new.cell_len <= self._width else list(new.wrap(self.app.console, self._width))
+        if self._lines and self._args is not None and len(rows) == self._cursor_rows:
+            for y, line in enumerate(rows):       # same number of lines: replace them in place
+                line.end = ""
+                self._lines[y] = line
+                self._strips.pop(y, None)
+            self.refresh(Region(0, 0, self._width, len(rows)))
+        else:
+            self._rebuild()
+
+    def show_fix(self, lines: list[str]) -> None:
+        if lines != self._fix:
+            self._fix = list(lines)
+            self._rebuild()
