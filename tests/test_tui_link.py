@@ -146,3 +146,35 @@ async def test_bad_url_is_a_status_line(tmp_path):
         assert panel.link is None
         await pilot.press("space")                           # still editing
         assert ed.session.frame[0, 0] == RED
+
+
+@async_test
+async def test_url_field_keys(tmp_path):
+    """Escape leaves the field, the footer names the keys that work there, and enter on another URL
+    while connected switches to it."""
+    first, second = sim_url(), sim_url()
+    app = app_for(make_pattern(tmp_path), port=None)
+    async with app.run_test(size=(100, 30)) as pilot:
+        ed = editor(app)
+        await pilot.press("O")
+        box = ed.query_one("#port-url")
+        assert box.has_focus
+        box.value = ""
+        await pilot.press("C", "x")                          # typing keys type, they do not connect
+        await pilot.pause()
+        assert box.value == "Cx" and ed.query_one("#link-pane").link is None
+        footer = screen_text(app).splitlines()[-1]
+        assert "connect / switch port" in footer and "back to the canvas" in footer
+        assert "paint" not in footer and "add" not in footer  # editor keys that would only type here
+        await pilot.press("escape")
+        await pilot.pause()
+        assert ed.canvas.has_focus and "paint" in screen_text(app).splitlines()[-1]
+        await pilot.press("O")
+        box.value = first
+        await pilot.press("enter")
+        ed, panel, _rx = await connected(pilot, app, first)
+        box.value = second
+        box.focus()
+        await pilot.press("enter")                           # another URL while connected: switch
+        ed, panel, rx2 = await connected(pilot, app, second)
+        assert panel.url == second and panel.link is not None

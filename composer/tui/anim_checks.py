@@ -23,6 +23,19 @@ __all__ = ["AnimationChecks", "ANIMATION_CHECK_DELAY_S"]
 ANIMATION_CHECK_DELAY_S = 0.3   # animation-wide checks wait until typing pauses
 
 
+def _scan_notes(profile) -> list[str]:
+    """The fastest row period the receiver firmware sustains, beside this profile's (rowcast check)."""
+    from ..electrical import scan_speed
+    s = scan_speed(profile)
+    notes = [f"fastest scan the receiver sustains: {s.fastest_row_period_us:.1f} us rows, "
+             f"{s.fastest_refresh_hz:.0f} Hz ({s.fastest_region}); low risk needs rows under "
+             f"{s.low_risk_below_us:.1f} us"]
+    if not s.sustained:
+        notes.append(f"! {s.row_period_us:g} us rows are faster than the receiver sustains "
+                     f"(scan {100 * s.cpu_share:.0f} % of its core)")
+    return notes
+
+
 class AnimationChecks(_Editor):
     def schedule_animation_check(self) -> None:
         if self._anim_check_timer is not None:
@@ -44,6 +57,7 @@ class AnimationChecks(_Editor):
             if timing is not None:
                 region = getattr(timing, "flicker_region", None) or getattr(timing, "flicker", "")
                 notes.append(f"refresh {float(timing.refresh_hz):.0f} Hz · flicker: {region}")
+            notes.extend(_scan_notes(self.session.profile))
             flash = getattr(report, "flash", None)
             if flash is not None:
                 notes.append(("flash: " if flash.ok else "! flash: ") + str(flash.message))

@@ -20,16 +20,16 @@ from functools import lru_cache
 import numpy as np
 from rich.segment import Segment
 from rich.style import Style
-from textual.geometry import Size
+from textual.geometry import Region, Size
 from textual.message import Message
-from textual.scroll_view import ScrollView
 from textual.strip import Strip
+from textual.widget import Widget
 
 from ..electrical.light import Lit
 from ..model import AMBER, GREEN, OFF, RED
 
 __all__ = ["LedView", "LedCanvas", "GLYPH", "HOLLOW", "COLOUR", "CELL_W", "GUTTER_W", "lit_shades",
-           "LIGHTNESS_STEPS"]
+           "LIGHTNESS_STEPS", "MODES", "MODE_TEXT", "SCROLL_MARGIN"]
 
 GLYPH = {OFF: "·", RED: "●", GREEN: "▲", AMBER: "◆"}
 HOLLOW = {OFF: "·", RED: "○", GREEN: "△", AMBER: "◇"}
@@ -88,46 +88,132 @@ def _lit_style(state: int, shade: int) -> Style:
 
 
 _DIM = Style(dim=True)
+SCROLL_MARGIN = 2   # LEDs kept in view beyond the cursor when the window moves with it
+# overview: two LEDs a terminal cell, the upper one the foreground of "▀", the lower one its background
+_HALF_OFF = "#3a3a3a"
+_HALF_CURSOR = "#ffffff"
+
+MODES = ("normal", "compact", "overview")
+MODE_TEXT = {"normal": "normal cells", "compact": "compact cells (one character an LED)",
+             "overview": "overview (two rows a line)"}
+_CELL_W = {"normal": CELL_W, "compact": 1, "overview": 1}
 
 
-def _inner(cols: int) -> int:
-    """Width inside the frame: the row-number gutter and two cells per LED."""
-    return GUTTER_W + CELL_W * cols
+@lru_cache(maxsize=None)
+def _half(top: int, bottom: int) -> Style:
+    """Style of one overview cell from two style codes (the cursor shows white)."""
+    def colour(code: int) -> str:
+        if code < 0:
+            return _HALF_OFF                 # below the last row
+        if code & _CURSOR:
+            return _HALF_CURSOR
+        state = code & 3
+        return COLOUR[state] if state != OFF else _HALF_OFF
+    return Style(color=colour(top), bgcolor=colour(bottom))
 
 
-class LedView(ScrollView, can_focus=False):
+class LedView(Widget):
     """Draws one frame of LED states with row and column numbers, inside its own rounded frame.
+
+    A panel larger than the widget is drawn through a window: the frame, the row numbers and the
+    column numbers stay put and the LEDs inside move (:meth:`show_window`); the top edge then says
+    which rows and columns are in view. Three cell modes: ``normal`` (glyph and a space),
+    ``compact`` (one character an LED) and ``overview`` (half blocks: two rows of LEDs a line, by
+    colour alone).
 
     The frame is drawn as part of each cached line rather than as a CSS border: a CSS border is
     re-rendered per line on every update and doubled the cost of redrawing a whole canvas.
     """
 
     COMPONENT_CLASSES = {"ledview--frame"}
+    FIT = True       # a view nobody edits (the device preview) takes the first cell mode that fits
     DEFAULT_CSS = """
-    LedView { height: auto; width: auto; min-width: 10; }
+    LedView { height: auto; width: auto; min-width: 10; max-width: 100%; }
     LedView > .ledview--frame { color: $primary; }
     LedView:focus > .ledview--frame { color: $accent; }
     """
 
     def __init__(self, rows: int, cols: int, *, name: str | None = None, id: str | None = None,
-                 classes: str | None = None) -> None:
+                 classes: str | None = None, spare_lines: int = 0) -> None:
         super().__init__(name=name, id=id, classes=classes)
+        self.spare_lines = spare_lines      # lines the container keeps for widgets below this one
         self._frame = np.zeros((rows, cols), np.uint8)
         self._codes = np.zeros((rows, cols), np.uint32)
         self._shade: np.ndarray | None = None
-        self._strips: dict[int, Strip] = {}
+        self._lines: dict[int, Strip] = {}          # finished lines of the current window, by y
+        self._cells: dict[int, Strip] = {}          # a whole row's cells (normal / compact), by row
         self._base_style: Style | None = None
         self._styled: dict[int, tuple[str, Style, bool]] = {}
         self._frame_st: Style | None = None
-        self.virtual_size = Size(_inner(cols) + 2, rows + 3)
+        self.mode = "normal"
+        self.origin = (0, 0)                        # first row and column in view
         self.lines_rendered = 0       # for the benchmark: proves a redraw happened
 
-    # -- layout -----------------------------------------------------------------------------
+    # -- geometry ---------------------------------------------------------------------------
+    @property
+    def cell_w(self) -> int:
+        return _CELL_W[self.mode]
+
+    @property
+    def rows_per_line(self) -> int:
+        return 2 if self.mode == "overview" else 1
+
+    def _full_size(self) -> tuple[int, int]:
+        rows, cols = self._codes.shape
+        return GUTTER_W + self.cell_w * cols + 2, -(-rows // self.rows_per_line) + 3
+
     def get_content_width(self, container: Size, viewport: Size) -> int:
-        return self.virtual_size.width
+        return self._full_size()[0]
 
     def get_content_height(self, container: Size, viewport: Size, width: int) -> int:
-        return self.virtual_size.height
+        full = self._full_size()[1]
+        if self.spare_lines and container.height:
+            # leave the lines below us (the tool line) on screen; the window shows the rest
+            return max(4, min(full, container.height - self.spare_lines))
+        return full
+
+    def window(self) -> tuple[int, int]:
+        """How many rows and columns of LEDs the widget shows at its current size."""
+        rows, cols = self._codes.shape
+        width, height = self.size
+        if not width or not height:
+            return rows, cols
+        vis_cols = max(1, min(cols, (width - 2 - GUTTER_W) // self.cell_w))
+        vis_rows = max(1, min(rows, (height - 3) * self.rows_per_line))
+        return vis_rows, vis_cols
+
+    def show_window(self, row0: int, col0: int) -> None:
+        """Put LED (row0, col0) at the window's top left (clamped so the window stays on the panel)."""
+        rows, cols = self._codes.shape
+        vis_rows, vis_cols = self.window()
+        origin = (max(0, min(row0, rows - vis_rows)), max(0, min(col0, cols - vis_cols)))
+        if self.mode == "overview":
+            origin = (origin[0] - origin[0] % 2, origin[1])
+        if origin != self.origin:
+            self.origin = origin
+            self._lines.clear()
+            self.refresh()
+
+    def set_mode(self, mode: str) -> None:
+        if mode not in MODES:
+            raise ValueError(mode)
+        self.mode = mode
+        self.origin = (0, 0)
+        self._lines.clear()
+        self._cells.clear()
+        self.refresh(layout=True)
+
+    def on_resize(self) -> None:
+        if self.FIT and self.parent is not None and self.parent.size.width:
+            room = self.parent.size.width
+            cols = self._codes.shape[1]
+            fits = next((m for m in MODES if GUTTER_W + _CELL_W[m] * cols + 2 <= room), MODES[-1])
+            if fits != self.mode:
+                self.set_mode(fits)
+                return
+        self._lines.clear()
+        self.show_window(*self.origin)          # clamp to the new size
+        self.refresh()
 
     @property
     def frame(self) -> np.ndarray:
@@ -137,8 +223,9 @@ class LedView(ScrollView, can_focus=False):
         self._frame = np.zeros((rows, cols), np.uint8)
         self._codes = np.zeros((rows, cols), np.uint32)
         self._shade = None
-        self._strips.clear()
-        self.virtual_size = Size(_inner(cols) + 2, rows + 3)
+        self._lines.clear()
+        self._cells.clear()
+        self.origin = (0, 0)
         self.refresh(layout=True)
 
     # -- state -> codes ---------------------------------------------------------------------
@@ -160,23 +247,31 @@ class LedView(ScrollView, can_focus=False):
         self._update_codes()
 
     def _update_codes(self) -> None:
-        """Recompute the style codes and refresh only the rows whose codes changed."""
+        """Recompute the style codes and refresh only the lines whose codes changed."""
         new = self._compute_codes()
         if new.shape != self._codes.shape:
             self._codes = new
-            self._strips.clear()
-            self.refresh()
+            self._lines.clear()
+            self._cells.clear()
+            self.refresh(layout=True)
             return
         changed = np.flatnonzero(np.any(new != self._codes, axis=1))
         self._codes = new
         if not len(changed):
             return
         for r in changed.tolist():
-            self._strips.pop(int(r), None)
-        # one block from the first to the last changed row: the compositor handles one region far
-        # faster than many one-line regions, and the unchanged rows in between come from the cache
-        first, last = int(changed[0]), int(changed[-1])
-        self.refresh_lines(first + 2, last - first + 1)
+            self._cells.pop(int(r), None)
+        per = self.rows_per_line
+        in_view = -(-self.window()[0] // per)
+        ys = sorted({y for y in ((int(r) - self.origin[0]) // per + 2 for r in changed.tolist())
+                     if 2 <= y < in_view + 2})
+        if not ys:
+            return
+        for y in ys:
+            self._lines.pop(y, None)
+        # one block from the first to the last changed line: the compositor handles one region far
+        # faster than many one-line regions, and the unchanged lines in between come from the cache
+        self.refresh(Region(0, ys[0], self.size.width, ys[-1] - ys[0] + 1))
 
     # -- drawing ----------------------------------------------------------------------------
     def _frame_style(self) -> Style:
@@ -184,16 +279,25 @@ class LedView(ScrollView, can_focus=False):
             self._frame_st = self._base() + self.get_component_rich_style("ledview--frame", partial=True)
         return self._frame_st
 
-    def _edge(self, top: bool) -> Strip:
-        inner = _inner(self._codes.shape[1])
+    def _edge(self, top: bool, inner: int) -> Strip:
         left, right = ("╭", "╮") if top else ("╰", "╯")
-        return Strip([Segment(left + "─" * inner + right, self._frame_style())], inner + 2)
+        rows, cols = self._codes.shape
+        vis_rows, vis_cols = self.window()
+        text = "─" * inner
+        if top and (vis_rows < rows or vis_cols < cols):
+            (r0, c0) = self.origin
+            label = (f" rows {r0}-{r0 + vis_rows - 1}/{rows} cols {c0}-{c0 + vis_cols - 1}/{cols} ")
+            if len(label) > inner:
+                label = f" {r0},{c0}+ "[:inner]
+            text = label + text[len(label):]
+        return Strip([Segment(left + text + right, self._frame_style())], inner + 2)
 
-    def _header(self) -> Strip:
-        cols = self._codes.shape[1]
-        text = " " * GUTTER_W + "".join(f"{c % 10} " for c in range(cols))
+    def _header(self, vis_cols: int, inner: int) -> Strip:
+        c0 = self.origin[1]
+        pad = " " * (self.cell_w - 1)
+        text = " " * GUTTER_W + "".join(f"{c % 10}{pad}" for c in range(c0, c0 + vis_cols))
         bar = Segment("│", self._frame_style())
-        return Strip([bar, Segment(text, self._base() + _DIM), bar], _inner(cols) + 2)
+        return Strip([bar, Segment(text.ljust(inner), self._base() + _DIM), bar], inner + 2)
 
     def _base(self) -> Style:
         if self._base_style is None:
@@ -210,58 +314,96 @@ class LedView(ScrollView, can_focus=False):
             self._styled[code] = hit
         return hit
 
-    def _row_strip(self, r: int) -> Strip:
-        strip = self._strips.get(r)
+    def _row_cells(self, r: int) -> Strip:
+        """A whole row's LED cells (normal or compact), cached until the row's codes change."""
+        strip = self._cells.get(r)
         if strip is None:
             base = self._base()
             codes = self._codes[r]
-            bar = Segment("│", self._frame_style())
-            segments = [bar, Segment(f"{r:>2} ", base + _DIM)]
             gap = Segment(" ", base)
+            compact = self.cell_w == 1
+            segments = []
             # one Segment per run of equal cells, not per LED
             edges = np.flatnonzero(np.diff(codes)) + 1
             starts = np.concatenate(([0], edges)).tolist()
             ends = np.concatenate((edges, [len(codes)])).tolist()
             for s, e in zip(starts, ends):
                 glyph, style, underline = self._styled_cell(int(codes[s]))
-                if underline:
+                if compact:
+                    segments.append(Segment(glyph * (e - s), style))
+                elif underline:
                     segments.append(Segment((glyph + " ") * (e - s), style))
                 else:
                     segments.append(Segment(" ".join(glyph * (e - s)), style))
                     segments.append(gap)
-            segments.append(bar)
-            strip = Strip(segments, _inner(len(codes)) + 2)
-            self._strips[r] = strip
+            strip = Strip(segments, self.cell_w * len(codes))
+            self._cells[r] = strip
         return strip
+
+    def _overview_cells(self, r: int, c0: int, vis_cols: int) -> list[Segment]:
+        rows = self._codes.shape[0]
+        # state and cursor only: the overview shows colour by state, not as lit
+        top = (self._codes[r, c0:c0 + vis_cols] & 0x1F).astype(np.int32)
+        bottom = ((self._codes[r + 1, c0:c0 + vis_cols] & 0x1F).astype(np.int32) if r + 1 < rows
+                  else np.full(vis_cols, -1, np.int32))
+        base = self._base()
+        segments = []
+        key = np.where(top < 0, 0, top) * 65536 + (bottom + 1)
+        edges = np.flatnonzero(np.diff(key)) + 1
+        starts = np.concatenate(([0], edges)).tolist()
+        ends = np.concatenate((edges, [vis_cols])).tolist()
+        for s, e in zip(starts, ends):
+            segments.append(Segment("▀" * (e - s), base + _half(int(top[s]), int(bottom[s]))))
+        return segments
+
+    def _row_line(self, y: int, vis_rows: int, vis_cols: int, inner: int) -> Strip:
+        r0, c0 = self.origin
+        r = r0 + (y - 2) * self.rows_per_line
+        bar = Segment("│", self._frame_style())
+        gutter = Segment(f"{r:>2} "[-GUTTER_W:], self._base() + _DIM)
+        if self.mode == "overview":
+            cells = self._overview_cells(r, c0, vis_cols)
+        else:
+            cells = list(self._row_cells(r).crop(c0 * self.cell_w, (c0 + vis_cols) * self.cell_w))
+        used = GUTTER_W + vis_cols * self.cell_w
+        fill = [Segment(" " * (inner - used), self._base())] if inner > used else []
+        return Strip([bar, gutter, *cells, *fill, bar], inner + 2)
 
     def notify_style_update(self) -> None:
         super().notify_style_update()
         self._base_style = None               # a theme, class or focus change restyles every line
         self._frame_st = None
-        self._strips.clear()
+        self._lines.clear()
+        self._cells.clear()
         self.refresh()
 
     def render_line(self, y: int) -> Strip:
-        scroll_x, scroll_y = self.scroll_offset
-        y += scroll_y
         self.lines_rendered += 1
+        strip = self._lines.get(y)
+        if strip is not None:
+            return strip
         width = self.size.width
-        rows = self._codes.shape[0]
-        if y == 0 or y == rows + 2:
-            strip = self._edge(top=y == 0)
+        vis_rows, vis_cols = self.window()
+        inner = max(GUTTER_W + vis_cols * self.cell_w, width - 2)
+        lines = -(-vis_rows // self.rows_per_line)
+        if y == 0 or y == lines + 2:
+            strip = self._edge(y == 0, inner)
         elif y == 1:
-            strip = self._header()
-        elif 2 <= y <= rows + 1:
-            strip = self._row_strip(y - 2)
+            strip = self._header(vis_cols, inner)
+        elif 2 <= y < lines + 2:
+            strip = self._row_line(y, vis_rows, vis_cols, inner)
         else:
             return Strip.blank(width, self._base())
-        if scroll_x == 0 and strip.cell_length == width:
-            return strip                      # the usual case: the cached line as it is
-        return strip.crop(scroll_x, scroll_x + width).extend_cell_length(width, self._base())
+        if strip.cell_length != width:
+            strip = strip.crop(0, width).extend_cell_length(width, self._base())
+        self._lines[y] = strip
+        return strip
 
 
 class LedCanvas(LedView, can_focus=True):
     """The editable canvas: cursor, mark/region and onion skin over the frame being edited."""
+
+    FIT = False      # the user picks the cell mode (key n); the window follows the cursor
 
     class Clicked(Message):
         def __init__(self, row: int, col: int) -> None:
@@ -280,8 +422,8 @@ class LedCanvas(LedView, can_focus=True):
         self._shade = shade
         self._onion = None if onion is None else np.array(onion, np.uint8)
         self.cursor, self.mark = cursor, mark
+        self.follow_cursor()
         self._update_codes()
-        self.scroll_to_region_of_cursor()
 
     def _compute_codes(self) -> np.ndarray:
         codes = super()._compute_codes()
@@ -295,21 +437,45 @@ class LedCanvas(LedView, can_focus=True):
         codes[r, c] |= _CURSOR
         return codes
 
-    def scroll_to_region_of_cursor(self) -> None:
-        # only large panels scroll; keep the cursor in view
-        if self.size.width and (self.virtual_size.width > self.size.width
-                                or self.virtual_size.height > self.size.height):
-            from textual.geometry import Region
-            r, c = self.cursor
-            self.scroll_to_region(Region(1 + GUTTER_W + CELL_W * c, r + 2, CELL_W, 1), animate=False,
-                                  immediate=True)
+    def follow_cursor(self) -> None:
+        """Move the window so the cursor is in view with SCROLL_MARGIN LEDs of room on every side
+        (less when the window is too small for that), as far as the panel's edges allow."""
+        vis_rows, vis_cols = self.window()
+        r, c = self.cursor
+        r0, c0 = self.origin
+
+        def follow(pos: int, first: int, size: int) -> int:
+            margin = min(SCROLL_MARGIN, (size - 1) // 2)
+            # past the margin the window jumps a third of its size, not one LED: a redraw of the whole
+            # canvas every few steps instead of on every step
+            lead = max(margin, min(size // 3, size - 1 - margin))
+            if pos < first + margin:
+                return pos - lead
+            if pos > first + size - 1 - margin:
+                return pos - size + 1 + lead
+            return first
+
+        self.show_window(follow(r, r0, vis_rows), follow(c, c0, vis_cols))
+
+    def on_resize(self) -> None:
+        super().on_resize()
+        self.follow_cursor()
+
+    def set_mode(self, mode: str) -> None:
+        super().set_mode(mode)
+        self.call_after_refresh(self.follow_cursor)
 
     def on_click(self, event) -> None:
         offset = event.get_content_offset(self)
         if offset is None:
             return
-        x = offset.x + self.scroll_offset.x - 1 - GUTTER_W
-        y = offset.y + self.scroll_offset.y - 2
+        x = offset.x - 1 - GUTTER_W
+        line = offset.y - 2
         rows, cols = self._frame.shape
-        if x >= 0 and 0 <= y < rows and x // CELL_W < cols:
-            self.post_message(self.Clicked(int(y), int(x // CELL_W)))
+        vis_rows, vis_cols = self.window()
+        if x < 0 or line < 0 or x // self.cell_w >= vis_cols or line * self.rows_per_line >= vis_rows:
+            return
+        row = self.origin[0] + line * self.rows_per_line
+        col = self.origin[1] + x // self.cell_w
+        if row < rows and col < cols:
+            self.post_message(self.Clicked(int(row), int(col)))

@@ -23,6 +23,20 @@ class DrawActions(_Editor):
         else:
             self.redraw(readout=False)
 
+    def action_cells(self) -> None:
+        from .canvas import MODES
+        self.set_cells(MODES[(MODES.index(self.canvas.mode) + 1) % len(MODES)])
+
+    def set_cells(self, mode: str) -> None:
+        """The overview is for seeing the whole panel: it takes the width of the side panes (n or g
+        brings them back)."""
+        from .canvas import MODE_TEXT
+        self.canvas.set_mode(mode)
+        self.set_class(mode == "overview", "-overview")
+        self._update_tool()
+        self.say(f"canvas: {MODE_TEXT[mode]}" + (" · n: normal cells and the readout again"
+                                                 if mode == "overview" else ""))
+
     def action_brush(self, state: int) -> None:
         self.session.brush = state
         self._update_tool()

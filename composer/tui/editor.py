@@ -9,7 +9,7 @@ from textual import on
 from textual.app import ComposeResult
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
-from textual.widgets import Footer, Static
+from textual.widgets import Footer, Input, Static
 
 from ..errors import RowcastError
 from ..model import size_text
@@ -23,7 +23,7 @@ from .frame_actions import FrameActions
 from .frames import FrameStrip
 from .generate_actions import GenerateActions
 from .headroom_actions import HeadroomActions
-from .keys import editor_bindings
+from .keys import TYPING_ONLY, editor_bindings
 from .light_actions import LightActions
 from .link_actions import LinkActions
 from .pattern_actions import PatternActions
@@ -63,7 +63,7 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         yield Static("", id="title", markup=False)
         with Horizontal(id="main"):
             with Vertical(id="left"):
-                yield LedCanvas(anim.rows, anim.cols, id="canvas")
+                yield LedCanvas(anim.rows, anim.cols, id="canvas", spare_lines=2)   # the tool line
                 yield Static("", id="tool", markup=False)
             with VerticalScroll(id="readout-pane"):
                 yield Readout(id="readout")
@@ -124,6 +124,8 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
             flags.append(f"mark {s.mark[0]},{s.mark[1]}")
         if s.wrap:
             flags.append("wrap")
+        if self.canvas.mode != "normal":
+            flags.append(self.canvas.mode)
         if self.onion:
             flags.append("onion")
         if self.lit_corner is not None:
@@ -162,13 +164,20 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         self.schedule_animation_check()
         self.query_one("#link-pane").frame_edited(self.session.frame)
 
+    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        # in a text field the typing keys type: their editor actions leave the footer (and do not run)
+        if action in TYPING_ONLY and isinstance(self.focused, Input):
+            return False
+        return True
+
     def panel_changed(self) -> None:
         """Another profile or panel size: new checks, a canvas of the new size, a link panel for the
         new profile (a connection is closed: the receiver was set up for the old profile)."""
         s = self.session
         self.checks = FrameChecks(s.profile)
         self.checks.full(s.anim)
-        self._guard_cache.clear()
+        for cache in (self._guard_cache, self._cursor_cache, self._fix_cache):
+            cache.clear()                     # all computed for the old profile
         self.canvas.resize_panel(s.anim.rows, s.anim.cols)
         self.run_worker(self._replace_link_panel(), group="link-panel", exclusive=True)
 

@@ -7,7 +7,7 @@ from __future__ import annotations
 
 from textual.binding import Binding
 
-__all__ = ["GROUPS", "editor_bindings", "all_keys"]
+__all__ = ["GROUPS", "editor_bindings", "all_keys", "TYPING_ONLY"]
 
 # (group, [(keys, action, description, footer label or None)])
 GROUPS: list[tuple[str, list[tuple[str, str, str, str | None]]]] = [
@@ -16,6 +16,7 @@ GROUPS: list[tuple[str, list[tuple[str, str, str, str | None]]]] = [
         ("down,j", "move(1,0)", "cursor down", None),
         ("left,h", "move(0,-1)", "cursor left", None),
         ("right,l", "move(0,1)", "cursor right", None),
+        ("n", "cells", "canvas cells: normal, compact or overview (the whole panel)", None),
     ]),
     ("Draw", [
         ("1", "brush(1)", "brush red", None),
@@ -115,3 +116,17 @@ def editor_bindings() -> list[Binding]:
 
 def all_keys() -> list[str]:
     return [k for _g, rows in GROUPS for keys, *_ in rows for k in keys.split(",")]
+
+
+def _typing_only() -> frozenset[str]:
+    """Actions every key of which is a printable character: a text field takes those keys."""
+    printable: dict[str, bool] = {}
+    for _g, rows in GROUPS:
+        for keys, action, *_ in rows:
+            name = action.split("(")[0]
+            only = all(len(k) == 1 or k == "space" for k in keys.split(","))
+            printable[name] = printable.get(name, True) and only
+    return frozenset(n for n, only in printable.items() if only)
+
+
+TYPING_ONLY = _typing_only()

@@ -16,6 +16,8 @@ __all__ = ["LinkActions"]
 
 class LinkActions(_Editor):
     def action_toggle_link(self) -> None:
+        if self.canvas.mode == "overview":       # the side panes are hidden: show them again first
+            self.set_cells("normal")
         self.toggle_class("show-link")
 
     def action_pick_port(self) -> None:

@@ -19,6 +19,7 @@ from textual import on, work
 from textual.app import ComposeResult
 from textual.containers import Horizontal, Vertical
 from textual.message import Message
+from textual.binding import Binding
 from textual.widgets import Button, Input, Label, Select, Static
 
 from ..model import Animation
@@ -36,7 +37,15 @@ def _transport():
     return transport
 
 
+class _UrlInput(Input):
+    """The URL field: the footer says what enter and escape do here (typing keys go into the field)."""
+
+    BINDINGS = [Binding("enter", "submit", "connect / switch port", show=True)]
+
+
 class LinkPanel(Vertical):
+    BINDINGS = [Binding("escape", "leave", "back to the canvas", show=True)]
+
     class LinkNews(Message):
         """A transport event or a worker's outcome, carried to the UI thread."""
 
@@ -69,7 +78,7 @@ class LinkPanel(Vertical):
         yield Label("link to the panel", classes="pane-title")
         yield Select([(f"simulated receiver ({self.sim_url})", self.sim_url)], prompt="choose a port…",
                      id="port-select", compact=True)
-        yield Input(self.url, placeholder="any pyserial URL or device path", id="port-url", compact=True)
+        yield _UrlInput(self.url, placeholder="any pyserial URL or device path", id="port-url", compact=True)
         with Horizontal(id="link-buttons"):
             yield Button("connect", id="link-connect", compact=True)
             yield Button("live", id="link-live", compact=True)
@@ -113,7 +122,18 @@ class LinkPanel(Vertical):
     @on(Input.Submitted, "#port-url")
     def _typed(self, event: Input.Submitted) -> None:
         event.stop()
+        url = event.value.strip() or self.sim_url
+        if self.link is not None and url != self.url:
+            self.disconnect()                 # enter on another URL switches to it
         self.connect()
+
+    def action_leave(self) -> None:
+        """Escape anywhere in the panel gives the keys back to the canvas."""
+        canvas = self.screen.query("#canvas")
+        if canvas:
+            canvas.first().focus()
+        else:
+            self.screen.set_focus(None)
 
     def pick_port(self) -> None:
         self.query_one("#port-url", Input).focus()

@@ -25,6 +25,7 @@ __all__ = ["Readout", "sparkline"]
 _LEVELS = " ▁▂▃▄▅▆▇█"
 _BAD = "bold #ff3a3a"
 _OK = "#3ad13a"
+_OTHER_LINES = 12       # the readout's lines besides the row bars (summary, sparkline, notes)
 
 
 def _bar(value: float, limit: float, width: int) -> tuple[str, bool]:
@@ -49,6 +50,16 @@ def sparkline(values: np.ndarray, limit: float, width: int, current: int) -> tup
     upper[(ratio > 1.0) & (upper == 0)] = 1        # any excess at all shows
     col = next(k for k, g in enumerate(groups) if current in g) if n else 0
     return "".join(_LEVELS[u] for u in upper), "".join(_LEVELS[v] for v in lower), col
+
+
+def _two_lines(t: Text, upper: str, lower: str, col: int) -> None:
+    """A sparkline's two lines (over the limit, up to it), column ``col`` in inverse."""
+    t.append("  over ")
+    t.append(upper, _BAD)
+    t.append("\n limit ")
+    t.append(lower[:col], _OK)
+    t.append(lower[col:col + 1] or " ", "reverse")
+    t.append(lower[col + 1:], _OK)
 
 
 class Readout(Widget):
@@ -148,7 +159,10 @@ class Readout(Widget):
         corner = CORNER
         t.append((self._cursor or " ") + "\n")           # line 0: the LED under the cursor (show_cursor)
         self._headline(t, res, current, ms, corner)
-        self._row_bars(t, res, width, corner)
+        if self._columns(len(res.row_ma), width):
+            self._row_columns(t, res, width, corner)
+        else:
+            self._row_bars(t, res, width, corner)
         self._totals(t, res, corner)
         for line in res.messages[:3]:
             t.append(f"! {line}\n", _BAD)
@@ -166,6 +180,26 @@ class Readout(Widget):
                  _OK if res.ok else _BAD)
         t.append(f"\nnearest limit: {res.binding} {100 * res.utilisation:.0f} % ({corner})\n",
                  _BAD if not res.ok else "")
+
+    def _columns(self, rows: int, width: int) -> bool:
+        """One column a row instead of one line a row: for more than 16 rows, or more than 8 when the
+        pane is too short for a line a row and the rest of the readout (a 16-row panel at 80x24)."""
+        pane = self.parent.size.height if self.parent is not None else 0
+        return rows > 16 or (rows > 8 and 0 < pane < rows + _OTHER_LINES)
+
+    @staticmethod
+    def _row_columns(t: Text, res: FrameResult, width: int, corner: str) -> None:
+        """The row bars' utilisation as a column chart, one column a row: the lower line rises to
+        100 %, the upper one shows the excess (as the sparkline does); the worst row in inverse; the
+        row numbers' last digits below."""
+        use = res.row_use if res.row_use is not None else np.zeros_like(res.row_ma)
+        worst = int(np.argmax(use)) if use.size else 0
+        t.append(f"row headroom ({corner}), a column a row\n", "dim")
+        upper, lower, col = sparkline(use, 1.0, max(8, width - 8), worst)
+        _two_lines(t, upper, lower, col)
+        if len(lower) == len(use):
+            t.append("\n   row " + "".join(str(r % 10) for r in range(len(use))), "dim")
+        t.append("\n")
 
     @staticmethod
     def _row_bars(t: Text, res: FrameResult, width: int, corner: str) -> None:
@@ -196,12 +230,7 @@ class Readout(Widget):
         shows how far a frame goes over, so every frame over any limit marks the upper line."""
         upper, lower, col = sparkline(checks.utilisations(), 1.0, max(8, width - 8), current)
         t.append(f"nearest limit by frame ({corner} corner)\n", "dim")
-        t.append("  over ")
-        t.append(upper, _BAD)
-        t.append("\n limit ")
-        t.append(lower[:col], _OK)
-        t.append(lower[col:col + 1] or " ", "reverse")
-        t.append(lower[col + 1:], _OK)
+        _two_lines(t, upper, lower, col)
 
     # -- the LED under the cursor and the fix: updated without rebuilding the rest ---------------
     def show_cursor(self, text: str) -> None:
