@@ -156,3 +156,42 @@ def test_row_interrupt_cycles_follow_the_stated_formula(tmp_path):
         mean = tick.mean + 8
         stated = ROW_IRQ_BASE_CYCLES + ROW_IRQ_CYCLES_PER_BYTE * prof.n_registers
         assert tick.count > 100 and abs(mean - stated) <= 3, (name, mean, stated)
+
+
+def test_tiled_sign_end_to_end_in_the_simulator(tmp_path):
+    """The real firmware in simavr with ten simulated 74HC595-class parts: the ticket-counter demo streamed
+    through the real Link at the profile's 48 us rows; every whole scan the chain latched while the outputs
+    were on is an authored frame, in the order sent; the receiver states its capacity (16 rows x 10 bytes)
+    and refuses a slot one byte longer at CONFIGURE."""
+    for tool in ("make", "avr-gcc", "avr-objcopy", "avr-size", "gcc", "simavr"):
+        need_tool(tool)
+    import serial
+    from tests.test_firmware_sim import collapse, index_of, raw_exchange, scans_of
+    from transport import Link, simboard
+    from transport import protocol as P
+    from transport.simboard import SimBoard, read_records
+    prof = load_profile("tiled-32x16")
+    anim, _ = open_pattern(TICKETS)
+    sent = [f for i, f in enumerate(anim.frames) if i == 0 or not np.array_equal(f, anim.frames[i - 1])][:6]
+    f_cpu = simboard.F_CPU
+    period = int(round(prof.scan.row_period_us * f_cpu / 1e6))
+    build = simboard.build(tmp_path / "build")
+    recs_path = tmp_path / "records.txt"
+    with SimBoard.start(prof, build_dir=build, records=recs_path, max_cycles=25 * f_cpu) as board:
+        with Link(board.port, prof, window=1, handshake_timeout=2.0, reconnect=False) as link:
+            assert (link.identity.max_rows, link.identity.max_bytes_per_row) == (16, 10)
+            board.mark("anim")
+            for f in sent:
+                assert link.send_frame(f).acked
+                board.wait_cycles(3 * prof.rows * period)
+            board.mark("done")
+        with serial.serial_for_url(board.port, baudrate=115200, timeout=0.05) as port:
+            too_long = P.Configure(900, 16, 11, 48, 4, 32, bytes(11), bytes(11))
+            assert raw_exchange(port, too_long) == [P.Reject(900, P.Reason.BAD_CONFIG, 1)]
+    recs = read_records(recs_path)
+    assert recs.latch_bytes.shape[1] == 10 and recs.spi_collisions == 0
+    scans = scans_of(recs, prof, recs.marks["anim"], recs.marks["done"])
+    shown = [index_of(f, sent) for s, f, clean in scans if clean and recs.oe_at(s + period // 2)]
+    assert -1 not in shown and collapse(shown) == list(range(len(sent))), collapse(shown)
+    cyc = recs.latch_cycles[(recs.latch_cycles >= recs.marks["anim"]) & (recs.latch_cycles < recs.marks["done"])]
+    assert np.median(np.diff(cyc)) == period                 # 48 us rows: 768 cycles at 16 MHz
