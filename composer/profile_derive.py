@@ -11,10 +11,10 @@ import re
 from datetime import datetime, timezone
 from pathlib import Path
 
-from .atomic import atomic_write_text
 from .errors import InputError
 from .profile import Profile, bundled_profiles, parse_profile
 from .textfile import read_text_file
+from .written import write_checked_text
 
 __all__ = ["derived_profile_text", "write_derived_profile", "derived_name"]
 
@@ -79,5 +79,8 @@ def write_derived_profile(path: str | Path, text: str) -> Path:
         raise InputError(f"{target}: bundled profiles are never edited; write the derived profile elsewhere")
     if not target.resolve().parent.is_dir():
         raise InputError(f"{target}: folder {target.parent} does not exist")
-    atomic_write_text(target, text)
+    def parses(back: bytes) -> None:
+        parse_profile(back.decode("utf-8"), str(target))     # an InputError here fails the read-back
+    # read back byte-equal and parsed as a profile before the command prints "wrote"
+    write_checked_text(target, text, check=parses)
     return target

@@ -7,8 +7,8 @@ import argparse
 from ..generate.bringup import DEFAULT_STEP_MS, DEFAULT_WALK_MS, bringup_animation
 from ..generate.cli_args import check_pattern_out, ms_arg
 from ..generate.pattern_ref import profile_ref_for
-from ..pattern_file import save_pattern
 from ..profile import load_profile
+from ..written import save_pattern_checked
 
 __all__ = ["configure", "run"]
 
@@ -27,7 +27,7 @@ def run(args: argparse.Namespace) -> int:
     profile = load_profile(args.profile)
     anim = bringup_animation(profile, step_ms=args.ms, walk_ms=args.walk_ms,
                              profile_ref=profile_ref_for(args.profile, out))
-    save_pattern(anim, out)
+    save_pattern_checked(anim, out)             # read back and parsed before "wrote"
     print(f"wrote {out}: {anim.n_frames} frames, {anim.total_ms / 1000:.1f} s")
     print(anim.notes.replace("; ", "\n"))
     return 0

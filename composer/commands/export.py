@@ -4,7 +4,8 @@
 (``composer.electrical.light``); the default previews show every lit LED alike.
 
 Several outputs may be asked for at once. Everything is checked (arguments, output folders, the
-pattern, the profile) before the first file is written, and each file is written atomically.
+pattern, the profile) before the first file is written, and each file is written atomically, then read
+back and checked (``composer/written.py``) before "wrote" is printed.
 Exit status 1 (files still written) when the electrical check finds a frame over a limit.
 """
 from __future__ import annotations
@@ -15,17 +16,19 @@ from pathlib import Path
 
 import numpy as np
 
-from ..atomic import atomic_write_bytes
 from ..bundled import resolve_pattern_ref
 from ..electrical import CORNERS
 from ..electrical.light import as_lit
 from ..errors import EXIT_OK, EXIT_VIOLATION, InputError
 from ..exports.c_tables import LAYOUTS, c_header, check_prefix
 from ..exports.check import check_report
-from ..exports.json_export import export_json
+from ..exports.json_export import json_text, plain_document
 from ..generate.cli_args import check_out
-from ..exports.preview import DEFAULT_SCALE, check_scale, gif_bytes, png_sheet_bytes
+from ..exports.preview import (DEFAULT_SCALE, check_scale, encode_gif, encode_png, gif_pictures,
+                               png_sheet_picture)
+from ..exports.readback import gif_check, json_check, png_check
 from ..pattern_file import open_pattern
+from ..written import Check, write_checked
 
 __all__ = ["configure", "run"]
 
@@ -81,20 +84,24 @@ def run(args: argparse.Namespace) -> int:
     # stress corner, as rowcast check and the stream guard judge it.
     report = check_report(anim, profile)
     stress = check_report(anim, profile, corner="stress")
-    blobs: dict[str, bytes] = {}
+    # Each file is read back and checked against what was made in memory before "wrote" is printed.
+    blobs: dict[str, tuple[bytes, Check | None]] = {}
     if args.c_out:
-        blobs["--c"] = c_header(anim, profile, report, layout=args.layout, prefix=args.prefix,
-                                progmem=args.progmem, source_name=pattern.name,
-                                stress_report=stress).encode()
+        blobs["--c"] = (c_header(anim, profile, report, layout=args.layout, prefix=args.prefix,
+                                 progmem=args.progmem, source_name=pattern.name,
+                                 stress_report=stress).encode(), None)
     if args.gif_out:
-        blobs["--gif"] = gif_bytes(anim, args.scale, lit)
+        pictures = gif_pictures(anim, args.scale, lit)
+        blobs["--gif"] = (encode_gif(pictures, anim.durations_ms), gif_check(pictures, anim.durations_ms))
     if args.png_out:
-        blobs["--png"] = png_sheet_bytes(anim, args.scale, lit)
+        sheet = png_sheet_picture(anim, args.scale, lit)
+        blobs["--png"] = (encode_png(sheet), png_check(sheet))
     if args.json_out:
-        blobs["--json"] = export_json(anim, profile, report).encode()
-    for opt, data in blobs.items():
-        atomic_write_bytes(wanted[opt], data)
-        print(f"wrote {wanted[opt]} ({len(data)} bytes)")
+        document = plain_document(anim, profile, report)
+        blobs["--json"] = (json_text(document).encode(), json_check(document))
+    for opt, (data, check) in blobs.items():
+        size = write_checked(wanted[opt], data, check=check)
+        print(f"wrote {wanted[opt]} ({size} bytes, read back and checked)")
     if list(stress.violations):
         ok = np.asarray(stress.frame_ok, bool).reshape(-1)
         where = f"{int((~ok).sum())} frame(s) are" if not ok.all() else "the animation as a whole is"

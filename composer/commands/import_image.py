@@ -10,8 +10,8 @@ from ..errors import InputError
 from ..generate.image_import import import_image
 from ..generate.pattern_ref import profile_ref_for
 from ..model import MAX_MS, MIN_MS
-from ..pattern_file import save_pattern
 from ..profile import load_profile
+from ..written import save_pattern_checked
 from ..generate.cli_args import check_pattern_out, ms_arg, warn_if_over
 
 __all__ = ["configure", "run"]
@@ -40,6 +40,6 @@ def run(args: argparse.Namespace) -> int:
     profile = load_profile(args.profile)
     anim = import_image(args.image, profile, fit=args.fit, dither=args.dither, name=args.name, ms=args.ms,
                         profile_ref=profile_ref_for(args.profile, out))
-    save_pattern(anim, out)
+    save_pattern_checked(anim, out)             # read back and parsed before "wrote"
     print(f"wrote {out}: {anim.n_frames} frame(s), {anim.rows}x{anim.cols}, {anim.total_ms} ms")
     return warn_if_over(anim, profile, out, "import")

@@ -4,11 +4,11 @@ from __future__ import annotations
 import argparse
 import sys
 
-from ..atomic import atomic_write_text
 from ..electrical import CORNERS, analyse
 from ..electrical.spice import row_netlist
 from ..errors import EXIT_OK, InputError
 from ..pattern_file import open_pattern
+from ..written import write_checked_text
 
 __all__ = ["configure", "run"]
 
@@ -38,7 +38,7 @@ def run(args: argparse.Namespace) -> int:
     if args.output == "-":
         sys.stdout.write(netlist.text)
     else:
-        atomic_write_text(args.output, netlist.text, keep_backup=False)
+        write_checked_text(args.output, netlist.text, keep_backup=False)   # read back before "wrote"
         sys.stderr.write(f"wrote {args.output}: {len(netlist.branches)} lit LED branch(es); run "
                          f"'ngspice -b {args.output}'\n")
     return EXIT_OK

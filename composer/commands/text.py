@@ -14,8 +14,8 @@ from ..generate.led_font import GAP, SIZES
 from ..generate.pattern_ref import profile_ref_for
 from ..generate.text_fix import check_text
 from ..generate.text_scroll import COLOUR_NAMES, DEFAULT_SPEED, FONTS, MAX_SPEED, MIN_SPEED, text_animation
-from ..pattern_file import save_pattern
 from ..profile import load_profile
+from ..written import save_pattern_checked
 
 __all__ = ["configure", "run"]
 
@@ -48,7 +48,7 @@ def run(args: argparse.Namespace) -> int:
                  pad_start=args.pad_start, pad_end=args.pad_end)
     anim = text_animation(args.message, profile, name=args.name, profile_ref=profile_ref_for(args.profile, out),
                           **style)
-    save_pattern(anim, out)
+    save_pattern_checked(anim, out)             # read back and parsed before "wrote"
     print(f"wrote {out}: {anim.n_frames} frames of {int(anim.durations_ms[0])} ms, {anim.total_ms} ms")
     verdict = check_text(anim, profile, args.message, **style)
     if verdict.ok:

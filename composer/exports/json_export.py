@@ -16,7 +16,7 @@ from ..pattern_file import GLYPHS, frame_to_text
 from ..profile import Profile, profile_to_dict
 from ..wiring import shift_bytes, shift_order
 
-__all__ = ["EXPORT_FORMAT", "export_document", "export_json"]
+__all__ = ["EXPORT_FORMAT", "export_document", "export_json", "plain_document", "json_text"]
 
 EXPORT_FORMAT = "rowcast-export/1"
 
@@ -64,4 +64,13 @@ def export_document(anim: Animation, profile: Profile, report: Any) -> dict[str,
 
 
 def export_json(anim: Animation, profile: Profile, report: Any) -> str:
-    return json.dumps(_plain(export_document(anim, profile, report)), indent=1, allow_nan=False) + "\n"
+    return json_text(plain_document(anim, profile, report))
+
+
+def plain_document(anim: Animation, profile: Profile, report: Any) -> Any:
+    """The document as JSON holds it (lists, strings, finite numbers): what the file must parse back to."""
+    return _plain(export_document(anim, profile, report))
+
+
+def json_text(document: Any) -> str:
+    return json.dumps(document, indent=1, allow_nan=False) + "\n"

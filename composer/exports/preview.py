@@ -23,7 +23,7 @@ from ..model import Animation
 
 __all__ = ["COLOURS_RGB", "OFF_RGB", "BOARD_RGB", "LEVELS", "MIN_SCALE", "MAX_SCALE", "DEFAULT_SCALE",
            "MAX_PIXELS", "GIF_MAX_CS", "check_scale", "gif_delays_ms", "frame_image", "gif_bytes",
-           "png_sheet_bytes", "sheet_layout"]
+           "gif_pictures", "encode_gif", "png_sheet_bytes", "png_sheet_picture", "encode_png", "sheet_layout"]
 
 BOARD_RGB = (12, 12, 12)
 OFF_RGB = OFF_SRGB                           # a dim dot: the LED is there but dark
@@ -100,6 +100,11 @@ def gif_delays_ms(durations_ms: np.ndarray) -> list[int]:
 
 def gif_bytes(anim: Animation, scale: int = DEFAULT_SCALE, lit: Lit | None = None) -> bytes:
     """An endlessly looping GIF with one GIF frame per animation frame (as lit when ``lit`` is given)."""
+    return encode_gif(gif_pictures(anim, scale, lit), anim.durations_ms)
+
+
+def gif_pictures(anim: Animation, scale: int = DEFAULT_SCALE, lit: Lit | None = None) -> list[Image.Image]:
+    """The GIF's frames as palette images, before encoding (what a read-back is compared with)."""
     scale = check_scale(scale)
     # pillow's GIF writer folds a frame that equals the previous one into it (adding the delays).
     # Moving the top-left pixel to the twin palette entry of its own colour keeps every frame
@@ -121,8 +126,12 @@ def gif_bytes(anim: Animation, scale: int = DEFAULT_SCALE, lit: Lit | None = Non
         img = Image.fromarray(plane, "P")
         img.putpalette(pal)
         images.append(img)
+    return images
+
+
+def encode_gif(images: list[Image.Image], durations_ms) -> bytes:
     buf = io.BytesIO()
-    images[0].save(buf, "GIF", save_all=True, append_images=images[1:], duration=gif_delays_ms(anim.durations_ms),
+    images[0].save(buf, "GIF", save_all=True, append_images=images[1:], duration=gif_delays_ms(durations_ms),
                    loop=0, optimize=False, disposal=1)
     return buf.getvalue()
 
@@ -192,6 +201,11 @@ _GAP = 6
 def png_sheet_bytes(anim: Animation, scale: int = DEFAULT_SCALE, lit: Lit | None = None) -> bytes:
     """All frames on one PNG, left to right then top to bottom, each labelled with its number and
     duration (as lit, an RGB image, when ``lit`` is given)."""
+    return encode_png(png_sheet_picture(anim, scale, lit))
+
+
+def png_sheet_picture(anim: Animation, scale: int = DEFAULT_SCALE, lit: Lit | None = None) -> Image.Image:
+    """The sprite sheet as an image, before encoding (what a read-back is compared with)."""
     scale = check_scale(scale)
     n, rows, cols = anim.frames.shape
     font = getattr(ImageFont, "load_default_imagefont", ImageFont.load_default)()   # the bitmap font
@@ -230,6 +244,10 @@ def png_sheet_bytes(anim: Animation, scale: int = DEFAULT_SCALE, lit: Lit | None
     for i, label in enumerate(labels):
         y, x = _GAP + (i // per_line) * ch, _GAP + (i % per_line) * cw
         draw.text((x, y), label, font=font, fill=ink)
+    return img
+
+
+def encode_png(img: Image.Image) -> bytes:
     buf = io.BytesIO()
     img.save(buf, "PNG", optimize=False)
     return buf.getvalue()

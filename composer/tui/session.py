@@ -18,7 +18,7 @@ import numpy as np
 from .. import draw, model
 from ..errors import InputError
 from ..model import AMBER, GREEN, OFF, RED, Animation, size_text
-from ..pattern_file import save_pattern
+from ..written import save_pattern_checked
 from ..profile import Profile, bundled_profiles
 from .history import Change, History
 
@@ -429,7 +429,7 @@ class Session:
             raise InputError("this pattern has no file yet: use save as")
         # the reference is worked out for where the file goes, so it reopens from there
         self.anim.profile = profile_ref(self.profile, target, self.anim.profile)
-        save_pattern(self.anim, target)   # atomic, keeps one .bak
+        save_pattern_checked(self.anim, target)   # atomic, keeps one .bak, read back before "saved"
         self.path = target
         self.history.mark_saved()
         return target
