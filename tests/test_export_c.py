@@ -389,6 +389,7 @@ def _shown_frame(lib, profile, ticks: int) -> np.ndarray:
 @pytest.mark.parametrize("profile_name", ["bench-8x8", "cathode-8x8", "wide-16x8"])
 def test_c_export_in_the_receiver_host_build_lights_the_authored_leds(tmp_path, host_receiver, profile_name):
     from transport import protocol as p
+    from transport.handshake import configure_message
     from composer.wiring import guard_masks
     prof = load_profile(profile_name)
     rng = np.random.default_rng(len(profile_name))
@@ -406,8 +407,7 @@ def test_c_export_in_the_receiver_host_build_lights_the_authored_leds(tmp_path, 
     lib.host_reset()
     masks = guard_masks(prof)
     lit_max = 2 * prof.cols                     # the receiver's own guard lets every LED of a row light
-    cfg = p.Configure(1, prof.rows, prof.n_registers, int(round(prof.scan.row_period_us)),
-                      int(round(prof.scan.blanking_us)), lit_max, masks.xor, masks.count)
+    cfg = configure_message(prof, 1, lit_max, masks)           # the CONFIGURE transport.Link sends
     wire = p.encode(cfg)
     lib.host_feed(wire, len(wire))
     for f in range(anim.n_frames):

@@ -27,7 +27,7 @@ from transport import protocol as P
 FW = ROOT / "firmware_stub"
 VECTORS = json.loads((ROOT / "transport" / "protocol_vectors.json").read_text())
 
-EV_SPI, EV_LATCH, EV_BLANK, EV_UNBLANK, EV_OUTPUTS, EV_TICK_START, EV_TICK_STOP = range(1, 8)
+EV_SPI, EV_LATCH, EV_BLANK, EV_UNBLANK, EV_OUTPUTS, EV_TICK_START, EV_TICK_STOP, EV_KICK, EV_SPI_ORDER = range(1, 10)
 P_STATE_CONFIGURED = 1      # IDENTITY state bit 0 (PROTOCOL.md section 4)
 
 
@@ -49,9 +49,17 @@ def lib(tmp_path_factory):
     so.host_events.argtypes = [ctypes.POINTER(ctypes.c_uint32), ctypes.c_uint32]
     so.host_tx.restype = ctypes.c_uint32
     so.host_tx.argtypes = [ctypes.c_char_p, ctypes.c_uint32]
-    for name in ("host_tick", "host_oe", "host_kicks", "host_state", "host_dropped", "host_scans"):
+    for name in ("host_tick", "host_oe", "host_kicks", "host_state", "host_dropped", "host_scans", "host_blanking_ns",
+                 "host_lsb_first"):
         getattr(so, name).restype = ctypes.c_uint32 if name != "host_tick" else ctypes.c_int
+    so.host_poke_front.argtypes = [ctypes.c_uint32, ctypes.c_uint8]
     return so
+
+
+def ack(seq: int, data: bytes | None = None, flags: int = 0) -> P.Ack:
+    """The ACK the receiver owes: for FRAME and SHOW its read-back CRC is the CRC-16 of the slot bytes it
+    will show, here computed by binascii.crc_hqx (Python standard library, CRC-16/IBM-3740 with init 0xFFFF)."""
+    return P.Ack(seq, flags, 0 if data is None else binascii.crc_hqx(data, 0xFFFF))
 
 
 class Rx:
@@ -96,9 +104,10 @@ class Rx:
         return out
 
 
-def configure_msg(profile, seq=1, period=80, blanking=4, limit=16):
+def configure_msg(profile, seq=1, period=80, blanking_ns=4000, limit=16):
     m = guard_masks(profile)
-    return P.Configure(seq, profile.rows, len(m.xor), period, blanking, limit, m.xor, m.count)
+    options = P.LSB_FIRST if profile.chain.bit_order == "lsb-first" else 0
+    return P.Configure(seq, profile.rows, len(m.xor), period, blanking_ns, limit, m.xor, m.count, options)
 
 
 @pytest.fixture
@@ -195,23 +204,57 @@ def test_vector_identity_configure_frame_ack(lib):
     ident = vector("identity from reset")
     assert rx.feed(P.encode(P.Identify(ident["seq"]))).hex() == ident["wire"]
     assert rx.feed(bytes.fromhex(vector("configure bench-8x8")["wire"])) == P.encode(P.Ack(1))
-    # The FRAME vector with seq 4660 is acknowledged with the "ack" vector.
-    assert rx.feed(bytes.fromhex(vector("frame 8x8 show-after")["wire"])).hex() == vector("ack")["wire"]
-    for name in ("show", "blank", "ping", "frame 8x8 all off, store only", "ping whose CRC holds a zero byte"):
-        v = vector(name)
-        assert rx.feed(bytes.fromhex(v["wire"])) == P.encode(P.Ack(v["seq"])), name
-    # The guard limit of the bench vector is 16: an all-zero frame lights all 16 columns of every row.
-    v = vector("frame 8x8 all zero bytes")
-    assert rx.feed(bytes.fromhex(v["wire"])) == P.encode(P.Ack(v["seq"]))
+    assert lib.host_blanking_ns() == 4000 and lib.host_lsb_first() == 0
+    # Messages are taken in sequence order: the FRAME vector (seq 0x1234) comes from ahead of seq 2.
+    frame = vector("frame 8x8 show-after")
+    assert rx.feed(bytes.fromhex(frame["wire"])) == P.encode(P.Reject(0x1234, P.Reason.OUT_OF_ORDER, 0))
+    cfg = P.decode_payload(P.decode_block(bytes.fromhex(vector("configure bench-8x8")["wire"])[:-1]))
+    assert rx.send(P.Configure(0x1233, *list(vars(cfg).values())[1:])) == [P.Ack(0x1233)]
+    # ... and after a CONFIGURE with seq 0x1233 it is the next one: answered with the "ack frame" vector.
+    assert rx.feed(bytes.fromhex(frame["wire"])).hex() == vector("ack frame 8x8 show-after")["wire"]
+    assert rx.feed(bytes.fromhex(frame["wire"])).hex() == vector("ack repeat")["wire"]
+    lsb = vector("configure lsb-first, blanking 300 ns")
+    assert rx.feed(bytes.fromhex(lsb["wire"])) == P.encode(P.Ack(1))
+    assert lib.host_blanking_ns() == 300 and lib.host_lsb_first() == 1
+    # Nothing shown yet: DISPLAY holds the idle slots (the XOR mask in every slot), outputs off.
+    assert rx.send(P.ReadBack(2)) == [P.Display(2, P.STATE_CONFIGURED, bytes((0x00, 0x00, 0xFF)) * 8)]
 
 
 def test_vector_maximum_frame_needs_16_rows(lib):
     rx = Rx(lib)
     v = vector("frame maximum 16x10")
-    cfg = P.Configure(1, 16, 10, 80, 4, 64, bytes(10), bytes(10))
-    assert rx.send(cfg) == [P.Ack(1)]
-    assert rx.feed(bytes.fromhex(v["wire"])) == P.encode(P.Ack(v["seq"]))
+    cfg = P.Configure(0xFFFE, 16, 10, 80, 4000, 64, bytes(10), bytes(10))
+    assert rx.send(cfg) == [P.Ack(0xFFFE)]
+    assert rx.feed(bytes.fromhex(v["wire"])) == P.encode(ack(v["seq"], bytes.fromhex(v["fields"]["data"])))
     assert lib.host_dropped() == 0
+    rx.tick(1)                                       # the end of the primed scan swaps the frame in
+    # The longest reply: DISPLAY of 16 x 10 slot bytes, 167 bytes before COBS, matches the codec's encoding.
+    assert rx.feed(P.encode(P.ReadBack(0))) == P.encode(P.Display(0, 3, bytes.fromhex(v["fields"]["data"])))
+
+
+def test_readback_reports_a_corrupted_display_buffer(lib, bench):
+    """Read-back reads the buffer the scan shows: a byte corrupted in it (a RAM fault injected through the host
+    build's test hook) is in the DISPLAY, so the host sees that what is shown is not what it sent."""
+    rx = Rx(lib)
+    rx.send(configure_msg(bench))
+    data = shift_bytes(authored(12, bench), bench).tobytes()
+    assert rx.send(P.Frame(2, data)) == [ack(2, data)]
+    rx.tick(1)                                       # the end of the primed scan swaps the frame in
+    assert rx.send(P.ReadBack(3)) == [P.Display(3, 3, data)]
+    lib.host_poke_front(5, data[5] ^ 0x20)
+    (shown,) = rx.send(P.ReadBack(4))
+    assert shown.data != data and binascii.crc_hqx(shown.data, 0xFFFF) != binascii.crc_hqx(data, 0xFFFF)
+    assert rx.send(P.Show(5)) == [P.Ack(5, 0, binascii.crc_hqx(shown.data, 0xFFFF))]   # SHOW reads it back too
+
+
+def test_lsb_first_profile_sets_the_spi_order(lib):
+    rx = Rx(lib)
+    cathode = load_profile("cathode-8x8")
+    assert cathode.chain.bit_order == "lsb-first"
+    rx.send(configure_msg(cathode))
+    assert (EV_SPI_ORDER, 1) in rx.events() and lib.host_lsb_first() == 1
+    rx.send(configure_msg(load_profile("bench-8x8"), seq=9))
+    assert lib.host_lsb_first() == 0
 
 
 # ---- scan engine ---------------------------------------------------------------------------------
@@ -227,7 +270,7 @@ def test_every_tick_blanks_latches_then_shifts(lib, bench):
     rx = Rx(lib)
     assert rx.send(configure_msg(bench, limit=16)) == [P.Ack(1)]
     frame = shift_bytes(authored(1, bench), bench)
-    assert rx.send(P.Frame(2, frame.tobytes())) == [P.Ack(2)]
+    assert rx.send(P.Frame(2, frame.tobytes())) == [ack(2, frame.tobytes())]
     rx.events()
     rx.tick(3)
     kinds = [k for k, _ in rx.events()]
@@ -265,7 +308,7 @@ def test_guard_rejects_and_keeps_back_buffer(lib, bench):
     rx.send(configure_msg(bench, limit=5))
     ok = np.zeros((8, 8), np.uint8)
     ok[:, :5] = 1                                     # 5 red LEDs a row: at the limit
-    assert rx.send(P.Frame(2, shift_bytes(ok, bench).tobytes(), flags=0)) == [P.Ack(2)]
+    assert rx.send(P.Frame(2, shift_bytes(ok, bench).tobytes(), flags=0)) == [ack(2, shift_bytes(ok, bench).tobytes())]
     over = ok.copy()
     over[3, 5] = 2                                    # row 3: 6 lit (5 red + 1 green)
     over[6, :] = 3                                    # row 6: 16 lit
@@ -273,7 +316,7 @@ def test_guard_rejects_and_keeps_back_buffer(lib, bench):
     lit = ((over & 1) != 0).sum(axis=1) + ((over & 2) != 0).sum(axis=1)
     assert list(np.nonzero(lit > 5)[0]) == [3, 6]
     assert rx.send(P.Frame(3, shift_bytes(over, bench).tobytes(), flags=0)) == [P.Reject(3, P.Reason.GUARD, 3)]
-    assert rx.send(P.Show(4)) == [P.Ack(4)]
+    assert rx.send(P.Show(4)) == [ack(4, shift_bytes(ok, bench).tobytes())]
     rx.events()
     rx.tick(8 * 3)
     latched = rx.latched(3)
@@ -284,13 +327,34 @@ def test_guard_rejects_and_keeps_back_buffer(lib, bench):
 
 def test_duplicate_seq_is_acked_not_stored(lib, bench):
     rx = Rx(lib)
-    rx.send(configure_msg(bench))
+    rx.send(configure_msg(bench, seq=6))
     a, b = authored(4, bench), authored(5, bench)
     rx.send(P.Frame(7, shift_bytes(a, bench).tobytes()))
-    assert rx.send(P.Frame(7, shift_bytes(b, bench).tobytes())) == [P.Ack(7)]
+    assert rx.send(P.Frame(7, shift_bytes(b, bench).tobytes())) == [ack(7, shift_bytes(a, bench).tobytes(), P.ACK_REPEAT)]
     rx.events()
     rx.tick(8 * 3)
     assert bytes(shift_bytes(b, bench)[0]) not in rx.latched(3)
+
+
+def test_sequence_order_wraps_and_never_steps_back(lib, bench):
+    """PROTOCOL.md section 5, compared with wrap-around: ahead is refused, a repeat of one of the last 4 is
+    answered as first answered (never stored again), older ones are STALE."""
+    rx = Rx(lib)
+    rx.send(configure_msg(bench, seq=0xFFFD))
+    a, b = (shift_bytes(authored(k, bench), bench).tobytes() for k in (13, 14))
+    assert rx.send(P.Frame(0, b)) == [P.Reject(0, P.Reason.OUT_OF_ORDER, 0)]
+    assert rx.send(P.Frame(0xFFFE, a)) == [ack(0xFFFE, a)]
+    assert rx.send(P.Ping(0xFFFF)) == [ack(0xFFFF)]
+    assert rx.send(P.Frame(0, b)) == [ack(0, b)]
+    rx.tick(8 * 3)
+    assert rx.send(P.Frame(0xFFFE, a)) == [ack(0xFFFE, a, P.ACK_REPEAT)]
+    rx.events()
+    rx.tick(8 * 3)
+    latched = rx.latched(3)
+    assert bytes(a[:3]) not in latched and bytes(b[:3]) in latched
+    for seq in (1, 2, 3, 4):
+        assert rx.send(P.Ping(seq)) == [ack(seq)]
+    assert rx.send(P.Frame(0, b)) == [P.Reject(0, P.Reason.STALE, 0)]
 
 
 def test_show_then_frame_does_not_show_the_frame(lib, bench):
@@ -299,12 +363,13 @@ def test_show_then_frame_does_not_show_the_frame(lib, bench):
     a, b = authored(10, bench), authored(11, bench)
     rx.send(P.Frame(2, shift_bytes(a, bench).tobytes()))
     rx.tick(8 * 2)
-    assert rx.send(P.Show(3)) == [P.Ack(3)]           # nothing new to show: a's scan continues
-    assert rx.send(P.Frame(4, shift_bytes(b, bench).tobytes(), flags=0)) == [P.Ack(4)]
+    a_bytes, b_bytes = shift_bytes(a, bench).tobytes(), shift_bytes(b, bench).tobytes()
+    assert rx.send(P.Show(3)) == [ack(3, a_bytes)]          # nothing new to show: a's scan continues
+    assert rx.send(P.Frame(4, b_bytes, flags=0)) == [ack(4, b_bytes)]
     rx.events()
     rx.tick(8 * 3)
     assert bytes(shift_bytes(b, bench)[0]) not in rx.latched(3)
-    assert rx.send(P.Show(5)) == [P.Ack(5)]
+    assert rx.send(P.Show(5)) == [ack(5, b_bytes)]
     rx.tick(8 * 2)
     assert bytes(shift_bytes(b, bench)[0]) in rx.latched(3)
 
@@ -318,11 +383,11 @@ def test_blank_and_show_drive_output_enable(lib, bench):
     rx.send(P.Frame(2, shift_bytes(authored(6, bench), bench).tobytes()))
     rx.tick(9)
     assert lib.host_oe() == 1 and lib.host_state() == 3
-    assert rx.send(P.Blank(3)) == [P.Ack(3)]
+    assert rx.send(P.Blank(3)) == [ack(3)]
     assert lib.host_oe() == 0
     rx.tick(9)
     assert lib.host_oe() == 0
-    assert rx.send(P.Show(4)) == [P.Ack(4)]
+    assert rx.send(P.Show(4)) == [ack(4, shift_bytes(authored(6, bench), bench).tobytes())]
     rx.tick(9)
     assert lib.host_oe() == 1
 
@@ -330,13 +395,15 @@ def test_blank_and_show_drive_output_enable(lib, bench):
 
 @pytest.mark.parametrize("field,kwargs", [
     (0, dict(rows=0)), (0, dict(rows=17)), (1, dict(bpr=0)), (1, dict(bpr=11)),
-    (2, dict(period=19)), (2, dict(period=4001)), (3, dict(blanking=80)), (4, dict(limit=0)),
+    (2, dict(period=19)), (2, dict(period=4001)), (3, dict(blanking_ns=70_001)), (3, dict(blanking_ns=0xFFFFFFFF)),
+    (4, dict(limit=0)), (5, dict(options=0x80)),
 ])
 def test_configure_fields_refused(lib, field, kwargs):
+    """Blanking must leave RC_MIN_LIGHT_NS (10 us) of each row lit: 70 us of an 80 us row is the most."""
     rx = Rx(lib)
     bpr = kwargs.get("bpr", 3)
-    cfg = P.Configure(5, kwargs.get("rows", 8), bpr, kwargs.get("period", 80), kwargs.get("blanking", 4),
-                      kwargs.get("limit", 16), bytes(bpr), bytes(bpr))
+    cfg = P.Configure(5, kwargs.get("rows", 8), bpr, kwargs.get("period", 80), kwargs.get("blanking_ns", 4000),
+                      kwargs.get("limit", 16), bytes(bpr), bytes(bpr), kwargs.get("options", 0))
     assert rx.send(cfg) == [P.Reject(5, P.Reason.BAD_CONFIG, field)]
     assert lib.host_state() == 0
 
@@ -347,7 +414,7 @@ def test_frame_length_flags_and_not_configured(lib, bench):
     assert rx.send(P.Frame(1, data)) == [P.Reject(1, P.Reason.NOT_CONFIGURED, 0)]
     assert rx.send(P.Show(2)) == [P.Reject(2, P.Reason.NOT_CONFIGURED, 0)]
     assert rx.send(P.Blank(6)) == [P.Reject(6, P.Reason.NOT_CONFIGURED, 0)]
-    assert rx.send(P.Ping(7)) == [P.Ack(7)]
+    assert rx.send(P.Ping(7)) == [ack(7)]
     rx.send(configure_msg(bench, seq=3))
     assert rx.send(P.Frame(4, data[:-1])) == [P.Reject(4, P.Reason.BAD_LENGTH, 0)]
     assert rx.send(P.Frame(5, data, flags=0x03)) == [P.Reject(5, P.Reason.BAD_FLAGS, 0x03)]
@@ -362,7 +429,7 @@ def test_bad_crc_and_truncation_change_nothing(lib, bench):
     wire[10] ^= 0x01 if wire[10] != 0x01 else 0x03
     assert rx.feed(bytes(wire)) == b""
     assert rx.feed(P.encode(P.Frame(4, shift_bytes(b, bench).tobytes()))[:20] + b"\x00") == b""
-    assert rx.feed(P.encode(P.Show(5))) == P.encode(P.Ack(5))
+    assert rx.feed(P.encode(P.Show(3))) == P.encode(ack(3, shift_bytes(a, bench).tobytes()))
     assert lib.host_dropped() == 2
     rx.events()
     rx.tick(8 * 3)

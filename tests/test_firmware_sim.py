@@ -119,26 +119,28 @@ def test_bench_8x8_end_to_end(build_dir, tmp_path):
                 assert result.acked, result.reason
             board.wait_cycles(4 * profile.rows * period)
             board.mark("anim done")
-        # The host guard is bypassed on purpose from here: raw FRAME bytes on the same port.
+        # The host guard is bypassed on purpose from here: raw FRAME bytes on the same port, numbered on
+        # from where the link stopped (the receiver takes messages in sequence order).
         masks = guard_masks(profile)
+        s = link._seq
         with serial.serial_for_url(board.port, baudrate=115200, timeout=0.05) as port:
             over = anim[-1].copy()
             over[2, :] = 3                                  # 16 lit in row 2
             over[6, :4] = 3                                 # 8 lit in row 6
             board.mark("guard")
-            got = raw_exchange(port, P.Frame(900, shift_bytes(over, profile).tobytes()))
-            assert got == [P.Reject(900, P.Reason.GUARD, 2)]
+            got = raw_exchange(port, P.Frame(s, shift_bytes(over, profile).tobytes()))
+            assert got == [P.Reject(s, P.Reason.GUARD, 2)]
             zeros = bytes(profile.rows * len(masks.xor))  # every active-low column on, rows off
-            got = raw_exchange(port, P.Frame(901, zeros))
+            got = raw_exchange(port, P.Frame(s + 1, zeros))
             assert got and got[0].reason == P.Reason.GUARD
             # A bad CRC and a truncated message: dropped silently, display unchanged.
             other = shift_bytes(anim[0], profile).tobytes()
-            wire = bytearray(P.encode(P.Frame(902, other)))
+            wire = bytearray(P.encode(P.Frame(s + 2, other)))
             wire[-2] = wire[-2] ^ 0x40 or 0x41            # the CRC's low byte, still not a delimiter
             assert raw_exchange(port, None, bytes(wire), wait=0.5) == []
-            cut = P.encode(P.Frame(903, other))
+            cut = P.encode(P.Frame(s + 2, other))
             assert raw_exchange(port, None, cut[: len(cut) // 2] + b"\x00", wait=0.5) == []
-            ident = raw_exchange(port, P.Identify(904))
+            ident = raw_exchange(port, P.Identify(s + 2))
             assert ident[0].rx_dropped == 2 and ident[0].state == 3, ident
             limit = ident[0].max_lit_per_row                # the guard the firmware says it enforces
             assert limit == firmware_lit_limit(profile) < 16  # the 16-lit row above was refused
@@ -152,7 +154,7 @@ def test_bench_8x8_end_to_end(build_dir, tmp_path):
             board.wait_cycles(WATCHDOG_CYCLES + 4 * period)
             board.mark("end")
             # After the watchdog reset the firmware starts afresh: unconfigured, outputs off.
-            again = raw_exchange(port, P.Identify(905))
+            again = raw_exchange(port, P.Identify(s + 3))
             assert again and again[0].state == 0 and again[0].max_lit_per_row == 0, again
     recs = read_records(recs_path)
     m = recs.marks

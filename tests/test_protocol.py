@@ -17,19 +17,24 @@ u16 = st.integers(0, 0xFFFF)
 @st.composite
 def messages(draw):
     seq = draw(u16)
-    kind = draw(st.sampled_from(["identify", "configure", "frame", "show", "blank", "ping", "ack", "identity",
-                                 "reject"]))
+    kind = draw(st.sampled_from(["identify", "configure", "frame", "show", "blank", "ping", "readback", "ack",
+                                 "identity", "reject", "display"]))
     if kind == "configure":
         bpr = draw(st.integers(1, 8))
-        return p.Configure(seq, draw(u8), bpr, draw(u16), draw(u16), draw(u8), draw(st.binary(min_size=bpr, max_size=bpr)),
-                           draw(st.binary(min_size=bpr, max_size=bpr)))
+        return p.Configure(seq, draw(u8), bpr, draw(u16), draw(st.integers(0, 0xFFFFFFFF)), draw(u8),
+                           draw(st.binary(min_size=bpr, max_size=bpr)), draw(st.binary(min_size=bpr, max_size=bpr)),
+                           draw(u8))
+    if kind == "ack":
+        return p.Ack(seq, draw(u8), draw(u16))
+    if kind == "display":
+        return p.Display(seq, draw(u8), draw(st.binary(max_size=128)))
     if kind == "frame":
         return p.Frame(seq, draw(st.binary(min_size=1, max_size=300)), draw(st.sampled_from([0, 1])))
     if kind == "identity":
         return p.Identity(seq, draw(u8), draw(u8), draw(u8), draw(u8), draw(u8), draw(u8), draw(u16))
     if kind == "reject":
         return p.Reject(seq, draw(u8), draw(u8))
-    return {"identify": p.Identify, "show": p.Show, "blank": p.Blank, "ping": p.Ping, "ack": p.Ack}[kind](seq)
+    return {"identify": p.Identify, "show": p.Show, "blank": p.Blank, "ping": p.Ping, "readback": p.ReadBack}[kind](seq)
 
 
 @settings(max_examples=400, deadline=None)
@@ -41,7 +46,7 @@ def test_round_trip(msg):
     payload = raw[:-2]
     # PROTOCOL.md section 1: CRC high byte first; binascii.crc_hqx (Python stdlib) is CRC-16/IBM-3740.
     assert raw[-2:] == struct.pack(">H", binascii.crc_hqx(payload, 0xFFFF))
-    assert struct.unpack_from("<BBH", payload) == (1, int(msg.TYPE), msg.seq)
+    assert struct.unpack_from("<BBH", payload) == (2, int(msg.TYPE), msg.seq)
     assert p.decode_payload(p.decode_block(wire[:-1])) == msg
 
 
@@ -99,12 +104,13 @@ def test_flush_zeros_are_not_counted():
 
 
 @pytest.mark.parametrize("payload, reason, detail", [
-    (bytes((2, 6, 1, 0)), p.Reason.BAD_VERSION, 2),
-    (bytes((1, 0x42, 1, 0)), p.Reason.UNKNOWN_TYPE, 0x42),
-    (bytes((1, 6, 1, 0, 9)), p.Reason.BAD_LENGTH, 0),
-    (bytes((1, 2, 1, 0, 8, 3, 80, 0, 4, 0, 16, 0xFF)), p.Reason.BAD_LENGTH, 0),   # masks missing
-    (bytes((1, 3, 1, 0, 1)), p.Reason.BAD_LENGTH, 0),                             # FRAME with no data
-    (bytes((1, 0x81, 1, 0, 1, 2)), p.Reason.BAD_LENGTH, 0),                       # short IDENTITY
+    (bytes((1, 6, 1, 0)), p.Reason.BAD_VERSION, 1),
+    (bytes((2, 0x42, 1, 0)), p.Reason.UNKNOWN_TYPE, 0x42),
+    (bytes((2, 6, 1, 0, 9)), p.Reason.BAD_LENGTH, 0),
+    (bytes((2, 2, 1, 0, 8, 3, 80, 0, 4, 0, 0, 0, 16, 0, 0xFF)), p.Reason.BAD_LENGTH, 0),   # masks missing
+    (bytes((2, 3, 1, 0, 1)), p.Reason.BAD_LENGTH, 0),                             # FRAME with no data
+    (bytes((2, 0x81, 1, 0, 1, 2)), p.Reason.BAD_LENGTH, 0),                       # short IDENTITY
+    (bytes((2, 0x80, 1, 0)), p.Reason.BAD_LENGTH, 0),                             # ACK without flags and CRC
 ])
 def test_bad_payloads_name_the_reject_reason(payload, reason, detail):
     with pytest.raises(p.MessageError) as info:

@@ -34,9 +34,14 @@ def _messages() -> list[tuple[str, str, p.Message]]:
     h, d = "host-to-device", "device-to-host"
     return [
         ("identify", h, p.Identify(0)),
-        ("configure bench-8x8", h, p.Configure(1, rows=8, bytes_per_row=3, row_period_us=80, blanking_us=4,
+        ("configure bench-8x8", h, p.Configure(1, rows=8, bytes_per_row=3, row_period_us=80, blanking_ns=4000,
                                                 max_lit_per_row=16, xor_mask=bytes((0xFF, 0xFF, 0x00)),
                                                 count_mask=bytes((0xFF, 0xFF, 0x00)))),
+        ("configure lsb-first, blanking 300 ns", h, p.Configure(1, rows=8, bytes_per_row=3, row_period_us=125,
+                                                                 blanking_ns=300, max_lit_per_row=12,
+                                                                 xor_mask=bytes((0x00, 0x00, 0xFF)),
+                                                                 count_mask=bytes((0xFF, 0xFF, 0x00)),
+                                                                 options=p.LSB_FIRST)),
         ("frame 8x8 show-after", h, p.Frame(0x1234, _BENCH_FRAME, p.SHOW_AFTER)),
         ("frame 8x8 all off, store only", h, p.Frame(2, bytes((0xFF, 0xFF, 0x00)) * 8, 0)),
         ("frame 8x8 all zero bytes", h, p.Frame(3, bytes(24), p.SHOW_AFTER)),
@@ -44,14 +49,21 @@ def _messages() -> list[tuple[str, str, p.Message]]:
         ("show", h, p.Show(5)),
         ("blank", h, p.Blank(6)),
         ("ping", h, p.Ping(0x0100)),
+        ("readback", h, p.ReadBack(7)),
         ("ack", d, p.Ack(0x1234)),
-        ("identity configured", d, p.Identity(0, version=1, max_rows=16, max_bytes_per_row=10, frame_slots=2,
+        ("ack frame 8x8 show-after", d, p.Ack(0x1234, 0, p.crc16(_BENCH_FRAME))),
+        ("ack repeat", d, p.Ack(0x1234, p.ACK_REPEAT, p.crc16(_BENCH_FRAME))),
+        ("display from reset", d, p.Display(7, 0)),
+        ("display 8x8", d, p.Display(8, p.STATE_CONFIGURED | p.STATE_OUTPUTS, _BENCH_FRAME)),
+        ("identity configured", d, p.Identity(0, version=2, max_rows=16, max_bytes_per_row=10, frame_slots=2,
                                               max_lit_per_row=16, state=3, rx_dropped=0x0102)),
-        ("identity from reset", d, p.Identity(7, version=1, max_rows=16, max_bytes_per_row=10, frame_slots=2,
+        ("identity from reset", d, p.Identity(7, version=2, max_rows=16, max_bytes_per_row=10, frame_slots=2,
                                               max_lit_per_row=0, state=0, rx_dropped=0)),
         ("reject guard row 3", d, p.Reject(9, p.Reason.GUARD, 3)),
         ("reject not configured", d, p.Reject(10, p.Reason.NOT_CONFIGURED, 0)),
         ("reject bad config row_period_us", d, p.Reject(11, p.Reason.BAD_CONFIG, 2)),
+        ("reject out of order", d, p.Reject(12, p.Reason.OUT_OF_ORDER, 0)),
+        ("reject stale", d, p.Reject(13, p.Reason.STALE, 0)),
     ]
 
 
@@ -107,11 +119,11 @@ def _bad_blocks() -> list[dict]:
         {"name": "empty block (flush zero)", "wire": "00", "expect": "ignore", "reply": ""},
         {"name": "garbage then a good ping", "wire": (bytes((0x55, 0xAA, 0x13, 0x00)) + good).hex(),
          "expect": "reply", "reply": reply(p.Ack(20)), "note": "the garbage block is dropped, the ping answered"},
-        {"name": "protocol version 2", "wire": p.wire_block(bytes((2, 6, 21, 0))).hex(), "expect": "reply",
-         "reply": reply(p.Reject(21, p.Reason.BAD_VERSION, 2))},
-        {"name": "unknown type 0x7E", "wire": p.wire_block(bytes((1, 0x7E, 22, 0))).hex(), "expect": "reply",
+        {"name": "protocol version 1", "wire": p.wire_block(bytes((1, 6, 21, 0))).hex(), "expect": "reply",
+         "reply": reply(p.Reject(21, p.Reason.BAD_VERSION, 1))},
+        {"name": "unknown type 0x7E", "wire": p.wire_block(bytes((2, 0x7E, 22, 0))).hex(), "expect": "reply",
          "reply": reply(p.Reject(22, p.Reason.UNKNOWN_TYPE, 0x7E))},
-        {"name": "ping with a body", "wire": p.wire_block(bytes((1, 6, 23, 0, 0xAB))).hex(), "expect": "reply",
+        {"name": "ping with a body", "wire": p.wire_block(bytes((2, 6, 23, 0, 0xAB))).hex(), "expect": "reply",
          "reply": reply(p.Reject(23, p.Reason.BAD_LENGTH, 0))},
         {"name": "frame before configure", "wire": p.encode(p.Frame(24, _BENCH_FRAME)).hex(), "expect": "reply",
          "reply": reply(p.Reject(24, p.Reason.NOT_CONFIGURED, 0)), "note": "receiver fresh from reset"},
@@ -195,7 +207,7 @@ def test_vectors_wire_bytes_follow_from_payload():
         crc = binascii.crc_hqx(payload, 0xFFFF)
         assert raw == payload + struct.pack(">H", crc), m["name"]
         version, mtype, seq = struct.unpack_from("<BBH", payload)
-        assert (version, mtype, seq) == (1, m["type"], m["seq"]), m["name"]
+        assert (version, mtype, seq) == (2, m["type"], m["seq"]), m["name"]
         decoded = p.decode_payload(payload)
         assert decoded.seq == m["seq"] and int(decoded.TYPE) == m["type"]
 

@@ -1,5 +1,6 @@
 """The composer's link panel against the simulated receiver (simrx://), whose displayed frame is
-decoded from the bytes that crossed the pyserial port through the wiring map.
+decoded from the bytes that crossed the pyserial port through the wiring map; the panel's preview
+is the receiver's own read-back (READBACK over the same port).
 
 Checked: the preview shows what the receiver decoded (not the editor's copy), a frame the guard
 blocks is shown as blocked and never reaches the receiver, and a port that vanishes (the
@@ -59,12 +60,29 @@ async def test_live_preview_is_what_the_receiver_decoded(tmp_path):
         preview = ed.query_one("#device", LedView)
         assert await until(pilot, lambda: np.array_equal(preview.frame, rx.displayed))
         text = screen_text(app)
-        assert "decoded from the bytes on the link" in text
+        assert "read back from the receiver: outputs on" in text
         # the preview follows the receiver, not the editor: with live mode off an edit is not shown
         await pilot.press("tilde", "j", "space")
         await pilot.pause(0.3)
         assert not np.array_equal(ed.session.frame, preview.frame)
         assert np.array_equal(preview.frame, want)
+
+
+@async_test
+async def test_preview_is_the_read_back_even_when_it_is_wrong(tmp_path):
+    """A receiver whose memory flips a bit of what it stores (simrx corrupt=1): the preview draws what the
+    receiver reads back, which is not the editor's frame, and the status line says the read-back differs."""
+    url = f"simrx://bench-8x8?corrupt=1&name=tui-{next(_names)}"
+    app = app_for(make_pattern(tmp_path), port=url)
+    async with app.run_test(size=(120, 40)) as pilot:
+        ed, panel, rx = await connected(pilot, app, url)
+        await pilot.press("1", "space")
+        want = ed.session.frame.copy()
+        preview = ed.query_one("#device", LedView)
+        assert await until(pilot, lambda: rx.displayed is not None and rx.displayed.any())
+        assert await until(pilot, lambda: preview.frame is not None and np.array_equal(preview.frame, rx.displayed))
+        assert not np.array_equal(preview.frame, want)
+        assert await until(pilot, lambda: "read-back mismatch" in screen_text(app))
 
 
 @async_test

@@ -11,7 +11,7 @@ Public API (what the composer TUI and the CLI use)::
     link.receiver                             # the SimulatedReceiver behind a simrx:// port, else None
 
 Any pyserial URL works (device paths, ``loop://``, ``socket://``, ``rfc2217://``) and ours:
-``simrx://PROFILE`` opens a port whose far end is an in-process :class:`SimulatedReceiver`.
+``simrx://NAME-or-PATH`` (a bundled profile or a profile file) opens a port whose far end is an in-process :class:`SimulatedReceiver`.
 """
 from __future__ import annotations
 

@@ -7,8 +7,8 @@ from typing import Any
 
 __all__ = ["EVENT_KINDS", "LinkEvent", "SendResult", "PlayReport", "LinkStats"]
 
-EVENT_KINDS = frozenset({"connected", "acked", "rejected", "blocked", "lost", "reconnecting", "reconnected",
-                         "closed", "error"})
+EVENT_KINDS = frozenset({"connected", "acked", "rejected", "mismatch", "blocked", "lost", "reconnecting",
+                         "reconnected", "closed", "error"})
 
 
 @dataclass(frozen=True)
@@ -16,7 +16,8 @@ class LinkEvent:
     """What happened on the link, for a status line. ``message`` is always one line.
 
     kinds: ``connected`` (open succeeded), ``acked`` (the receiver took a message; ``seq``), ``rejected``
-    (it refused one: ``message`` says why), ``blocked`` (the guard stopped a frame before encoding;
+    (it refused one: ``message`` says why), ``mismatch`` (it answered, but its read-back CRC is not that of
+    the bytes sent: the frame is not shown as sent), ``blocked`` (the guard stopped a frame before encoding;
     ``reasons``, one line each), ``lost`` (port gone or receiver silent), ``reconnecting``, ``reconnected``
     (identified and configured again; the last frame is restored), ``closed``, ``error`` (bad blocks
     from the device, a failing callback).
@@ -46,7 +47,8 @@ class PlayReport:
     acked: int = 0
     blocked: int = 0
     rejected: int = 0
-    failed: int = 0        # no answer, superseded or link lost
+    mismatched: int = 0    # answered, but the receiver's read-back differs from what was sent
+    failed: int = 0        # no answer or link lost
     skipped: int = 0       # due while the link was down
     elapsed_s: float = 0.0
 
@@ -58,6 +60,7 @@ class LinkStats:
     acked: int = 0
     rejected: int = 0
     superseded: int = 0
+    mismatches: int = 0          # answers whose read-back CRC differs from what was sent
     timeouts: int = 0
     stray_replies: int = 0       # replies to nothing outstanding (late or duplicate)
     unexpected: int = 0          # CRC-correct blocks that are not device replies

@@ -25,17 +25,24 @@ import serial
 from composer.errors import InputError, LinkError
 from composer.model import Animation
 from composer.profile import Profile
+from composer.wiring import frame_from_shift_bytes
 
 from . import protocol as p
 from .events import EVENT_KINDS, LinkEvent, LinkStats, PlayReport, SendResult
 from .gate import Gate, guard_frame, reasons_of
-from .handshake import request
+from .handshake import configure_message, request
 from .ports import close_quietly, list_ports, one_line, open_port, register_url_handler
+from .crc import crc16
 from .receiver import line_time_s
 from .window import Pending, Window
 
 __all__ = ["Link", "LinkEvent", "SendResult", "PlayReport", "LinkStats", "EVENT_KINDS", "Window",
            "Pending", "open_port", "guard_frame", "list_ports", "register_url_handler", "reasons_of"]
+
+
+# Timeouts without a single byte from the receiver, while messages wait for answers, before the link
+# counts as lost (a cut wire or a reset board): well short of the retries, well past line noise.
+_SILENCE_TIMEOUTS = 8
 
 
 class Link:
@@ -47,9 +54,14 @@ class Link:
     ``opener(url, baud)`` replaces :func:`open_port` (tests wrap ports in fault injectors).
     """
 
+    # Sends of the oldest message before it gives up. At 1 % of bytes flipped and 1 % dropped each way
+    # about 40 % of round trips of an 8x8 frame succeed, and a window resent together shares its luck:
+    # the slowest of 10,000 frames needed 21 sends in the noise test (tests/test_link_faults.py).
+    DEFAULT_RETRIES = 25
+
     def __init__(self, url: str, profile: Profile, baud: int = 115200,
                  on_event: Callable[[LinkEvent], None] | None = None, *, window: int = 4,
-                 ack_timeout: float | None = None, retries: int = 5, reconnect: bool = True,
+                 ack_timeout: float | None = None, retries: int = DEFAULT_RETRIES, reconnect: bool = True,
                  reconnect_interval: float = 0.25, handshake_timeout: float = 0.5,
                  opener: Callable[[str, int], Any] | None = None) -> None:
         self.url, self.profile, self.baud = url, profile, int(baud)
@@ -66,8 +78,8 @@ class Link:
         self._masks = self._gate_of.masks
         self._limit = self._gate_of.limit
         self.stats = LinkStats()
-        # The longest reply is IDENTITY: 4 + 8 + 2 bytes, 15 COBS-encoded; anything much longer is garbage.
-        self.decoder = p.StreamDecoder(max_block=64)
+        # The longest reply is DISPLAY, the slot bytes of one frame: anything much longer is garbage.
+        self.decoder = p.StreamDecoder(max_block=p.frame_wire_len(self._n_data) + 8)
         self.identity: p.Identity | None = None
         self.port: Any = None
         self._seq = 0
@@ -80,6 +92,7 @@ class Link:
         self._last_shown: np.ndarray | None = None    # restored on the panel after a reconnect
         self._last_rx = 0.0
         self._need_config = False
+        self._resync = False
         self._bad_reported, self._bad_reported_at = 0, 0.0
 
     # -- public ---------------------------------------------------------------------------------
@@ -104,6 +117,8 @@ class Link:
             raise InputError(f"profile {self.profile.name}: at the stress corner not even one lit LED per row stays "
                              "within the limits, so there is nothing the receiver's guard could let through "
                              "(rowcast check shows which limit)")
+        # A scan the receiver cannot do is refused here, before any port is opened (InputError, exit 2).
+        configure_message(self.profile, 0, self._limit, self._masks)
         self._closing = False
         port = self._opener(self.url, self.baud)
         try:
@@ -174,6 +189,25 @@ class Link:
     def ping(self) -> SendResult:
         return self._control(p.Ping)
 
+    def read_back(self) -> p.Display | None:
+        """Ask the receiver for the slot bytes its scan shifts out now (READBACK). None when it did
+        not answer (link down, no answer after the retries)."""
+        item = self._control_item(p.ReadBack)
+        if isinstance(item, Pending) and isinstance(item.reply, p.Display):
+            return item.reply
+        return None
+
+    def shown_frame(self, display: p.Display) -> np.ndarray | None:
+        """LED states decoded from a DISPLAY through the wiring map (all off while the outputs are
+        off); None when its bytes do not fit this link's profile."""
+        prof = self.profile
+        if len(display.data) != prof.rows * prof.n_registers:
+            return None
+        if not display.state & p.STATE_OUTPUTS:
+            return np.zeros((prof.rows, prof.cols), np.uint8)
+        slots = np.frombuffer(display.data, np.uint8).reshape(prof.rows, prof.n_registers)
+        return frame_from_shift_bytes(slots, prof)[0]
+
     def play(self, animation: Animation, loop: bool = False, stop_event: threading.Event | None = None, *,
              paced: bool = True, progress: Callable[[int, SendResult | None], None] | None = None) -> PlayReport:
         """Show the animation's frames at their durations (``paced=False``: as fast as the link
@@ -192,7 +226,9 @@ class Link:
                 res = self._result(item)
                 if res.acked:
                     report.acked += 1
-                elif isinstance(item.reply, p.Reject):
+                elif item.mismatch:
+                    report.mismatched += 1
+                elif isinstance(item.reply, p.Reject) and item.reply.reason != p.Reason.STALE:
                     report.rejected += 1
                 else:
                     report.failed += 1
@@ -270,7 +306,7 @@ class Link:
                 return SendResult(False, verdict, False, why)
             seq = self._next_seq()
             item = Pending(seq, p.encode(p.Frame(seq, data, p.SHOW_AFTER)), True, verdict=verdict,
-                           frame=frame, on_done=on_done)
+                           frame=frame, on_done=on_done, expect_crc=crc16(data))
             self._window.add(item, time.monotonic())
             self.stats.sent += 1
         if not self._write(item.wire):
@@ -278,6 +314,10 @@ class Link:
         return item
 
     def _control(self, make: Callable[[int], p.Message]) -> SendResult:
+        item = self._control_item(make)
+        return item if isinstance(item, SendResult) else self._result(item)
+
+    def _control_item(self, make: Callable[[int], p.Message]) -> Pending | SendResult:
         with self._cv:
             while self._connected and len(self._window) and not self._closing:
                 self._cv.wait(0.05)
@@ -289,7 +329,7 @@ class Link:
             self.stats.sent += 1
         self._write(item.wire)
         self._wait_done(item)
-        return self._result(item)
+        return item
 
     def _write(self, data: bytes) -> bool:
         port = self.port
@@ -327,9 +367,13 @@ class Link:
                 self.stats.acked += 1
                 if item.is_frame:
                     self._last_shown = item.frame
-                self._emit("acked", f"frame shown (seq {item.seq})" if item.is_frame else f"message acknowledged (seq {item.seq})",
-                           seq=item.seq)
-            elif isinstance(item.reply, p.Reject):
+                if not isinstance(item.reply, p.Display):    # a read-back is a question, not news
+                    self._emit("acked", f"frame shown and read back (seq {item.seq})" if item.is_frame else
+                               f"message acknowledged (seq {item.seq})", seq=item.seq)
+            elif item.mismatch:
+                self.stats.mismatches += 1
+                self._emit("mismatch", f"seq {item.seq}: {item.reason}", seq=item.seq)
+            elif isinstance(item.reply, p.Reject) and item.reply.reason != p.Reason.STALE:
                 self.stats.rejected += 1
                 self._emit("rejected", item.reason, seq=item.seq)
                 if item.reply.reason == p.Reason.NOT_CONFIGURED:
@@ -385,7 +429,7 @@ class Link:
                 self._live = None
                 seq = self._next_seq()
                 live = Pending(seq, p.encode(p.Frame(seq, data_bytes, p.SHOW_AFTER)), True, verdict=verdict,
-                               frame=frame)
+                               frame=frame, expect_crc=crc16(data_bytes))
                 self._window.add(live, now)
                 self.stats.sent += 1
             if finished:
@@ -397,10 +441,25 @@ class Link:
         if live is not None:
             self._write(live.wire)
         self._finish(finished)
-        if any(item.reason.startswith("no answer after") for item in finished) and \
-                time.monotonic() - self._last_rx > 4 * self._window.timeout_s:
+        gave_up = any(item.reason.startswith("no answer after") for item in finished)
+        silent = time.monotonic() - self._last_rx
+        if len(self._window) and silent > _SILENCE_TIMEOUTS * self._window.timeout_s:
             self._lost("the receiver stopped answering", port_gone=False)
-        elif self._need_config and not len(self._window):
+            return
+        if gave_up and silent > 4 * self._window.timeout_s:
+            self._lost("the receiver stopped answering", port_gone=False)
+            return
+        if gave_up:
+            # The receiver takes messages in order: while it may still wait for the one that gave up,
+            # nothing later can be taken. Configure it again (that starts its sequence afresh).
+            with self._cv:
+                rest = self._window.fail_all("no answer (an earlier message was never answered; the receiver is "
+                                             "configured again)")
+                self._need_config = True
+                self._resync = True
+                self._cv.notify_all()
+            self._finish(rest)
+        if self._need_config and not len(self._window):
             self._reconfigure()
 
     def _report_bad_blocks(self, now: float) -> None:
@@ -502,7 +561,9 @@ class Link:
             self._need_config = False
             self._connected = True
             self._cv.notify_all()
-        self._emit("reconnected", f"receiver on {self.url} was reset; configured it again")
+        why = "lost its place in the message sequence" if self._resync else "was reset"
+        self._resync = False
+        self._emit("reconnected", f"receiver on {self.url} {why}; configured it again")
         self._restore_display()
 
     def _restore_display(self) -> None:
@@ -533,8 +594,7 @@ class Link:
                             f"bytes per row; profile {prof.name} needs {prof.rows} x {prof.n_registers}")
         with self._cv:
             seq = self._next_seq()
-        cfg = p.Configure(seq, prof.rows, prof.n_registers, int(round(prof.scan.row_period_us)),
-                          int(round(prof.scan.blanking_us)), self._limit, self._masks.xor, self._masks.count)
+        cfg = configure_message(prof, seq, self._limit, self._masks)
         reply = self._request(port, cfg, p.Ack, max(tries, 5))
         if isinstance(reply, p.Reject):
             raise LinkError(f"{self.url}: receiver refused the configuration of profile {prof.name}: {reply.text()}")

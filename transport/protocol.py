@@ -1,4 +1,4 @@
-"""The rowcast wire protocol, version 1: pure bytes in, bytes out (no I/O).
+"""The rowcast wire protocol, version 2: pure bytes in, bytes out (no I/O).
 
 ``transport/PROTOCOL.md`` is the specification; this module is its host-side codec and the
 simulated receiver's. A message on the wire is ``COBS(payload ‖ crc16(payload)) ‖ 0x00``; the
@@ -21,15 +21,20 @@ from .crc import crc16
 
 __all__ = [
     "VERSION", "HEADER_LEN", "CRC_LEN", "SHOW_AFTER", "MsgType", "Reason", "Identify", "Configure",
-    "Frame", "Show", "Blank", "Ping", "Ack", "Identity", "Reject", "Message", "HOST_TYPES",
+    "Frame", "Show", "Blank", "Ping", "ReadBack", "Ack", "Identity", "Reject", "Display", "Message", "HOST_TYPES",
     "DEVICE_TYPES", "MessageError", "payload_of", "encode", "wire_block", "decode_payload",
-    "decode_block", "StreamDecoder", "DecoderCounts", "frame_wire_len", "REASON_TEXT",
+    "decode_block", "StreamDecoder", "DecoderCounts", "frame_wire_len", "REASON_TEXT", "LSB_FIRST", "ACK_REPEAT",
+    "STATE_CONFIGURED", "STATE_OUTPUTS", "STATE_SWAP_DUE", "MAX_UNANSWERED", "CONFIG_FIELDS",
 ]
 
-VERSION = 1
+VERSION = 2
 HEADER_LEN = 4
 CRC_LEN = 2
 SHOW_AFTER = 0x01   # FRAME flags bit 0: show this frame once stored
+LSB_FIRST = 0x01    # CONFIGURE options bit 0: every byte goes out on the data line bit 0 first
+ACK_REPEAT = 0x01   # ACK flags bit 0: a repeat, answered again as first answered, not done again
+STATE_CONFIGURED, STATE_OUTPUTS, STATE_SWAP_DUE = 0x01, 0x02, 0x04   # IDENTITY / DISPLAY state bits
+MAX_UNANSWERED = 4  # the receiver answers repeats of its last 4 messages (PROTOCOL.md section 5)
 
 _HEADER = struct.Struct("<BBH")
 
@@ -41,9 +46,11 @@ class MsgType(IntEnum):
     SHOW = 0x04
     BLANK = 0x05
     PING = 0x06
+    READBACK = 0x07
     ACK = 0x80
     IDENTITY = 0x81
     REJECT = 0x82
+    DISPLAY = 0x83
 
 
 class Reason(IntEnum):
@@ -54,6 +61,8 @@ class Reason(IntEnum):
     GUARD = 0x05
     BAD_CONFIG = 0x06
     BAD_FLAGS = 0x07
+    OUT_OF_ORDER = 0x08
+    STALE = 0x09
 
 
 REASON_TEXT: dict[int, str] = {
@@ -64,9 +73,11 @@ REASON_TEXT: dict[int, str] = {
     Reason.GUARD: "receiver guard: too many lit LEDs in row slot",
     Reason.BAD_CONFIG: "receiver refused configuration field",
     Reason.BAD_FLAGS: "bad frame flags",
+    Reason.OUT_OF_ORDER: "out of order (an earlier message is missing)",
+    Reason.STALE: "repeat of a message too old to answer again",
 }
 
-CONFIG_FIELDS = ("rows", "bytes_per_row", "row_period_us", "blanking_us", "max_lit_per_row")
+CONFIG_FIELDS = ("rows", "bytes_per_row", "row_period_us", "blanking_ns", "max_lit_per_row", "options")
 
 
 @dataclass(frozen=True)
@@ -84,17 +95,18 @@ class Configure:
     rows: int
     bytes_per_row: int
     row_period_us: int
-    blanking_us: int
+    blanking_ns: int
     max_lit_per_row: int
     xor_mask: bytes
     count_mask: bytes
+    options: int = 0          # bit 0: LSB_FIRST
     TYPE: ClassVar[int] = MsgType.CONFIGURE
 
     def body(self) -> bytes:
         if len(self.xor_mask) != self.bytes_per_row or len(self.count_mask) != self.bytes_per_row:
             raise ValueError(f"CONFIGURE masks must be {self.bytes_per_row} bytes each")
-        return struct.pack("<BBHHB", self.rows, self.bytes_per_row, self.row_period_us, self.blanking_us,
-                           self.max_lit_per_row) + bytes(self.xor_mask) + bytes(self.count_mask)
+        return struct.pack("<BBHIBB", self.rows, self.bytes_per_row, self.row_period_us, self.blanking_ns,
+                           self.max_lit_per_row, self.options) + bytes(self.xor_mask) + bytes(self.count_mask)
 
 
 @dataclass(frozen=True)
@@ -138,12 +150,26 @@ class Ping:
 
 
 @dataclass(frozen=True)
-class Ack:
+class ReadBack:
+    """Asks for DISPLAY: the slot bytes the receiver's scan shifts out now."""
     seq: int = 0
-    TYPE: ClassVar[int] = MsgType.ACK
+    TYPE: ClassVar[int] = MsgType.READBACK
 
     def body(self) -> bytes:
         return b""
+
+
+@dataclass(frozen=True)
+class Ack:
+    """``crc``: for FRAME and SHOW, CRC-16 of the slot bytes the receiver will show, read back from
+    its buffer after storing (0 for other messages). ``flags`` bit 0 (ACK_REPEAT): answered again."""
+    seq: int = 0
+    flags: int = 0
+    crc: int = 0
+    TYPE: ClassVar[int] = MsgType.ACK
+
+    def body(self) -> bytes:
+        return struct.pack("<BH", self.flags, self.crc)
 
 
 @dataclass(frozen=True)
@@ -181,10 +207,23 @@ class Reject:
                                                             Reason.BAD_VERSION, Reason.BAD_FLAGS) else base
 
 
-Message = Union[Identify, Configure, Frame, Show, Blank, Ping, Ack, Identity, Reject]
+@dataclass(frozen=True)
+class Display:
+    """Answer to READBACK: ``state`` (STATE_* bits) and the slot bytes the scan shifts out now
+    (empty before a CONFIGURE)."""
+    seq: int
+    state: int
+    data: bytes = b""
+    TYPE: ClassVar[int] = MsgType.DISPLAY
+
+    def body(self) -> bytes:
+        return bytes((self.state,)) + bytes(self.data)
+
+
+Message = Union[Identify, Configure, Frame, Show, Blank, Ping, ReadBack, Ack, Identity, Reject, Display]
 HOST_TYPES = frozenset({MsgType.IDENTIFY, MsgType.CONFIGURE, MsgType.FRAME, MsgType.SHOW, MsgType.BLANK,
-                        MsgType.PING})
-DEVICE_TYPES = frozenset({MsgType.ACK, MsgType.IDENTITY, MsgType.REJECT})
+                        MsgType.PING, MsgType.READBACK})
+DEVICE_TYPES = frozenset({MsgType.ACK, MsgType.IDENTITY, MsgType.REJECT, MsgType.DISPLAY})
 
 
 class MessageError(ValueError):
@@ -225,8 +264,8 @@ def frame_wire_len(n_data: int) -> int:
 # ---------------------------------------------------------------------------------------------
 # Decoding
 # ---------------------------------------------------------------------------------------------
-_FIXED_LEN = {MsgType.IDENTIFY: 0, MsgType.SHOW: 0, MsgType.BLANK: 0, MsgType.PING: 0, MsgType.ACK: 0,
-              MsgType.IDENTITY: 8, MsgType.REJECT: 2}
+_FIXED_LEN = {MsgType.IDENTIFY: 0, MsgType.SHOW: 0, MsgType.BLANK: 0, MsgType.PING: 0, MsgType.READBACK: 0,
+              MsgType.ACK: 3, MsgType.IDENTITY: 8, MsgType.REJECT: 2}
 
 
 def decode_block(block: bytes) -> bytes:
@@ -264,8 +303,14 @@ def decode_payload(payload: bytes) -> Message:
         return Blank(seq)
     if mtype is MsgType.PING:
         return Ping(seq)
+    if mtype is MsgType.READBACK:
+        return ReadBack(seq)
     if mtype is MsgType.ACK:
-        return Ack(seq)
+        return Ack(seq, *struct.unpack("<BH", body))
+    if mtype is MsgType.DISPLAY:
+        if not body:
+            raise MessageError(Reason.BAD_LENGTH, 0, seq, "DISPLAY body is empty, expected a state byte")
+        return Display(seq, body[0], bytes(body[1:]))
     if mtype is MsgType.IDENTITY:
         return Identity(seq, *struct.unpack("<BBBBBBH", body))
     if mtype is MsgType.REJECT:
@@ -275,13 +320,18 @@ def decode_payload(payload: bytes) -> Message:
             raise MessageError(Reason.BAD_LENGTH, 0, seq, f"FRAME body is {len(body)} bytes, no slot data")
         return Frame(seq, bytes(body[1:]), body[0])
     # CONFIGURE
-    if len(body) < 7:
-        raise MessageError(Reason.BAD_LENGTH, 0, seq, f"CONFIGURE body is {len(body)} bytes, expected at least 7")
-    rows, bpr, period, blanking, limit = struct.unpack_from("<BBHHB", body)
-    if len(body) != 7 + 2 * bpr:
+    if len(body) < _CONFIG_FIXED:
         raise MessageError(Reason.BAD_LENGTH, 0, seq,
-                           f"CONFIGURE body is {len(body)} bytes, expected {7 + 2 * bpr} for {bpr} bytes per row")
-    return Configure(seq, rows, bpr, period, blanking, limit, bytes(body[7:7 + bpr]), bytes(body[7 + bpr:]))
+                           f"CONFIGURE body is {len(body)} bytes, expected at least {_CONFIG_FIXED}")
+    rows, bpr, period, blanking, limit, options = struct.unpack_from("<BBHIBB", body)
+    if len(body) != _CONFIG_FIXED + 2 * bpr:
+        raise MessageError(Reason.BAD_LENGTH, 0, seq, f"CONFIGURE body is {len(body)} bytes, expected "
+                           f"{_CONFIG_FIXED + 2 * bpr} for {bpr} bytes per row")
+    masks = body[_CONFIG_FIXED:]
+    return Configure(seq, rows, bpr, period, blanking, limit, bytes(masks[:bpr]), bytes(masks[bpr:]), options)
+
+
+_CONFIG_FIXED = struct.calcsize("<BBHIBB")     # 10 bytes before the masks
 
 
 @dataclass

@@ -1,6 +1,11 @@
 """pyserial URL handler ``simrx://PROFILE[?options]``: a port whose far end is an in-process
 :class:`~transport.receiver.SimulatedReceiver`.
 
+``PROFILE`` is a bundled profile name (``simrx://bench-8x8``) or a profile file's path, absolute
+(``simrx:///home/me/panels/my-panel.toml``) or relative to the working folder
+(``simrx://panels/my-panel.toml``), percent-encoded where it has spaces; :func:`url_for` gives the
+URL that opens a given loaded profile.
+
 Importing :mod:`transport` adds the package to ``serial.protocol_handler_packages``, so
 ``serial.serial_for_url("simrx://bench-8x8")`` opens one (pyserial looks up ``<package>.protocol_<scheme>``).
 ``PROFILE`` is a bundled profile name or a path; the receiver decodes what it is sent through that
@@ -11,6 +16,8 @@ Options (query string):
   (see :func:`receiver_named`); without it each open gets a fresh receiver.
 - ``drop``, ``flip``, ``duplicate``, ``delay`` (per-byte rates, both directions), ``delay_ms``, ``seed``:
   fault injection (:mod:`transport.faults`), e.g. ``simrx://bench-8x8?drop=0.01&seed=1``.
+- ``corrupt=1``: the receiver's memory flips one bit of every frame it stores, so its read-back CRC
+  differs from what was sent (how a receiver fault is reported: never as "shown").
 
 Setting ``receiver.plugged = False`` pulls the cable: open fails and an open port raises on I/O,
 as a USB serial device that went away does.
@@ -26,10 +33,29 @@ from serial.serialutil import PortNotOpenError, SerialBase, SerialException
 from .faults import FaultInjector, Faults
 from .receiver import SimulatedReceiver
 
-__all__ = ["Serial", "receiver_named", "forget_receivers"]
+__all__ = ["Serial", "receiver_named", "forget_receivers", "url_for"]
 
 _NAMED: dict[str, SimulatedReceiver] = {}
 _NAMED_LOCK = threading.Lock()
+
+
+def url_for(profile) -> str:
+    """The simrx:// URL that opens a receiver for ``profile``: its bundled name when the profile is the
+    bundled one of that name, else the path it was read from (absolute, percent-encoded)."""
+    from pathlib import Path
+
+    from composer.profile import bundled_profiles, load_profile
+
+    if profile.name in bundled_profiles():
+        try:
+            if Path(load_profile(profile.name).source).resolve() == Path(profile.source).resolve():
+                return f"simrx://{profile.name}"
+        except Exception:  # noqa: BLE001 - an unreadable bundle: fall back to the path
+            pass
+    source = Path(profile.source)
+    if not source.is_file():
+        return f"simrx://{profile.name}"
+    return "simrx://" + urllib.parse.quote(str(source.resolve()))
 
 
 def receiver_named(name: str) -> SimulatedReceiver | None:
@@ -41,6 +67,11 @@ def receiver_named(name: str) -> SimulatedReceiver | None:
 def forget_receivers() -> None:
     with _NAMED_LOCK:
         _NAMED.clear()
+
+
+def _flip_one_bit(data: bytes) -> bytes:
+    """A memory fault: bit 4 of the first stored byte reads back inverted."""
+    return bytes((data[0] ^ 0x10,)) + data[1:] if data else data
 
 
 class Serial(SerialBase):
@@ -80,7 +111,7 @@ class Serial(SerialBase):
             options = {k: v[-1] for k, v in urllib.parse.parse_qs(parts.query, strict_parsing=bool(parts.query)).items()}
         except ValueError:
             raise SerialException(f"{url}: cannot read the options {parts.query!r}") from None
-        known = {"name", "drop", "flip", "duplicate", "delay", "delay_ms", "seed"}
+        known = {"name", "drop", "flip", "duplicate", "delay", "delay_ms", "seed", "corrupt"}
         unknown = set(options) - known
         if unknown:
             raise SerialException(f"{url}: unknown option {sorted(unknown)[0]!r} (known: {', '.join(sorted(known))})")
@@ -101,7 +132,8 @@ class Serial(SerialBase):
                 profile = load_profile(ref)
             except RowcastError as err:
                 raise SerialException(f"{url}: {err}") from None
-            rx = SimulatedReceiver(profile)
+            corrupt = options.get("corrupt", "0") not in ("0", "")
+            rx = SimulatedReceiver(profile, store_fault=_flip_one_bit if corrupt else None)
             if name is not None:
                 _NAMED[name] = rx
             return rx

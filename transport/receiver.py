@@ -28,9 +28,10 @@ from composer.profile import Profile, load_profile
 from composer.wiring import frame_from_shift_bytes
 
 from . import protocol as p
+from .crc import crc16
 
 __all__ = ["SimulatedReceiver", "ReceiverCounts", "serve_fd", "MAX_ROWS", "MAX_BYTES_PER_ROW",
-           "MIN_ROW_PERIOD_US", "MAX_ROW_PERIOD_US", "line_time_s"]
+           "MIN_ROW_PERIOD_US", "MAX_ROW_PERIOD_US", "MIN_LIGHT_NS", "line_time_s", "config_problem"]
 
 # Capacity of the ATmega328P-class build (PROTOCOL.md section 6).
 MAX_ROWS = 16
@@ -40,7 +41,22 @@ MAX_BYTES_PER_ROW = 10
 MIN_ROW_PERIOD_US = 20
 # The longest: a watchdog kicked once per row must not time out (the firmware's figure).
 MAX_ROW_PERIOD_US = 4000
+# Light each row keeps after its blanking (the firmware's RC_MIN_LIGHT_NS): the end of blanking is
+# counted from when the row tick runs, which another interrupt may delay by a few microseconds.
+MIN_LIGHT_NS = 10_000
 FRAME_SLOTS = 2
+
+
+def config_problem(msg: p.Configure, max_rows: int = MAX_ROWS, max_bytes_per_row: int = MAX_BYTES_PER_ROW) -> int | None:
+    """Index of the first CONFIGURE field the receiver refuses (``p.CONFIG_FIELDS``), or None."""
+    checks = (1 <= msg.rows <= max_rows, 1 <= msg.bytes_per_row <= max_bytes_per_row,
+              MIN_ROW_PERIOD_US <= msg.row_period_us <= MAX_ROW_PERIOD_US,
+              msg.blanking_ns + MIN_LIGHT_NS <= msg.row_period_us * 1000, msg.max_lit_per_row >= 1,
+              not msg.options & ~p.LSB_FIRST)
+    for index, ok in enumerate(checks):
+        if not ok:
+            return index
+    return None
 
 
 def line_time_s(n_bytes: int, baud: int) -> float:
@@ -51,7 +67,8 @@ def line_time_s(n_bytes: int, baud: int) -> float:
 @dataclass
 class ReceiverCounts:
     accepted: int = 0      # FRAME messages stored
-    duplicates: int = 0    # FRAME retries acknowledged without storing again
+    duplicates: int = 0    # repeats answered again without doing them again
+    out_of_order: int = 0  # messages from ahead of the sequence, refused until the missing ones come
     rejected: int = 0      # REJECT replies sent
     shown: int = 0         # buffer swaps to the front
 
@@ -63,12 +80,14 @@ class SimulatedReceiver:
     def __init__(self, profile: Profile | None = None, *, max_rows: int = MAX_ROWS,
                  max_bytes_per_row: int = MAX_BYTES_PER_ROW,
                  on_display: Callable[[np.ndarray, int], None] | None = None,
-                 on_show: Callable[[bytes, int], None] | None = None) -> None:
+                 on_show: Callable[[bytes, int], None] | None = None,
+                 store_fault: Callable[[bytes], bytes] | None = None) -> None:
         self.profile = profile
         self.max_rows = max_rows
         self.max_bytes_per_row = max_bytes_per_row
         self.on_display = on_display      # (decoded frame, seq) whenever what the panel shows changes
         self.on_show = on_show            # (front buffer bytes, seq) on every swap: cheap, for long runs
+        self.store_fault = store_fault    # test hook: what a faulty memory makes of stored slot bytes
         # The longest block worth buffering: a full FRAME at capacity, COBS-encoded.
         self.decoder = p.StreamDecoder(max_block=p.frame_wire_len(max_rows * max_bytes_per_row) - 1)
         self.counts = ReceiverCounts()
@@ -86,6 +105,8 @@ class SimulatedReceiver:
             self.back = b""
             self.last_frame_seq: int | None = None
             self.front_seq: int | None = None
+            self.expected = 0
+            self.answers: dict[int, p.Message] = {}      # by seq % MAX_UNANSWERED, for repeats
             self.decoder.reset()
 
     @property
@@ -118,6 +139,11 @@ class SimulatedReceiver:
             slots = np.frombuffer(self.front, np.uint8).reshape(cfg.rows, cfg.bytes_per_row)
             return frame_from_shift_bytes(slots, prof)[0]
 
+    @property
+    def lsb_first(self) -> bool:
+        """The bit order CONFIGURE set (the firmware sets its SPI data order from it)."""
+        return bool(self.config and self.config.options & p.LSB_FIRST)
+
     # -- bytes in, bytes out --------------------------------------------------------------------
     def feed(self, data: bytes) -> bytes:
         """Take bytes from the host; return the reply bytes (possibly empty)."""
@@ -128,7 +154,7 @@ class SimulatedReceiver:
         return bytes(out)
 
     def handle(self, payload: bytes) -> p.Message:
-        """One CRC-checked payload -> the reply message."""
+        """One CRC-checked payload -> the reply message (PROTOCOL.md sections 3-5, in the firmware's order)."""
         try:
             msg = p.decode_payload(payload)
         except p.MessageError as err:
@@ -140,37 +166,68 @@ class SimulatedReceiver:
                               min(self.dropped, 0xFFFF))
         if isinstance(msg, p.Configure):
             return self._configure(msg)
-        if isinstance(msg, p.Ping):
-            return p.Ack(seq)
-        if isinstance(msg, (p.Ack, p.Identity, p.Reject)):      # device-to-host types are not ours
+        if isinstance(msg, (p.Ack, p.Identity, p.Reject, p.Display)):      # device-to-host types are not ours
             return self._reject(seq, p.Reason.UNKNOWN_TYPE, int(msg.TYPE))
         if self.config is None:
+            if isinstance(msg, p.Ping):
+                return p.Ack(seq)
+            if isinstance(msg, p.ReadBack):
+                return p.Display(seq, self.state)
             return self._reject(seq, p.Reason.NOT_CONFIGURED, 0)
+        # In sequence order only: the next message is done, a repeat of one of the last
+        # MAX_UNANSWERED is answered again as it was first answered, one from ahead waits.
+        d = ((seq - self.expected + 0x8000) & 0xFFFF) - 0x8000
+        if d > 0:
+            self.counts.out_of_order += 1
+            return self._reject(seq, p.Reason.OUT_OF_ORDER, 0)
+        if isinstance(msg, p.ReadBack):
+            if d == 0:
+                self.expected = (self.expected + 1) & 0xFFFF
+            return self._display(seq)
+        slot = seq % p.MAX_UNANSWERED
+        if d < 0:
+            if d < -p.MAX_UNANSWERED:
+                return self._reject(seq, p.Reason.STALE, 0)
+            self.counts.duplicates += 1
+            first = self.answers.get(slot, p.Reject(seq, p.Reason.STALE, 0))   # from before the CONFIGURE
+            return p.Ack(seq, p.ACK_REPEAT, first.crc) if isinstance(first, p.Ack) else p.Reject(seq, first.reason,
+                                                                                                  first.detail)
+        answer = self._take(msg)
+        self.answers[slot] = answer
+        self.expected = (self.expected + 1) & 0xFFFF
+        return answer
+
+    def _take(self, msg: p.Message) -> p.Message:
+        seq = msg.seq
         if isinstance(msg, p.Blank):
             self.outputs_enabled = False
             self._notify()
             return p.Ack(seq)
         if isinstance(msg, p.Show):
             self._show(self.last_frame_seq)
-            return p.Ack(seq)
-        return self._frame(msg)
+            return p.Ack(seq, 0, crc16(self.front))
+        if isinstance(msg, p.Frame):
+            return self._frame(msg)
+        return p.Ack(seq)                                          # PING
+
+    def _display(self, seq: int) -> p.Display:
+        return p.Display(seq, self.state, self.front)
 
     def _reject(self, seq: int, reason: int, detail: int) -> p.Reject:
         self.counts.rejected += 1
         return p.Reject(seq, reason, detail)
 
     def _configure(self, msg: p.Configure) -> p.Message:
-        checks = (1 <= msg.rows <= self.max_rows, 1 <= msg.bytes_per_row <= self.max_bytes_per_row,
-                  MIN_ROW_PERIOD_US <= msg.row_period_us <= MAX_ROW_PERIOD_US, msg.blanking_us < msg.row_period_us,
-                  msg.max_lit_per_row >= 1)
-        for index, ok in enumerate(checks):
-            if not ok:
-                return self._reject(msg.seq, p.Reason.BAD_CONFIG, index)
+        bad = config_problem(msg, self.max_rows, self.max_bytes_per_row)
+        if bad is not None:
+            return self._reject(msg.seq, p.Reason.BAD_CONFIG, bad)
         self.config = msg
         self.outputs_enabled = False
         # Empty buffers hold the xor mask in every slot: every line at its inactive level.
         self.front = self.back = msg.xor_mask * msg.rows
         self.last_frame_seq = self.front_seq = None
+        self.expected = (msg.seq + 1) & 0xFFFF
+        self.answers = {}
         self._xor = np.frombuffer(msg.xor_mask, np.uint8)
         self._count = np.frombuffer(msg.count_mask, np.uint8)
         self._notify()
@@ -188,18 +245,16 @@ class SimulatedReceiver:
             return self._reject(msg.seq, p.Reason.BAD_LENGTH, 0)
         if msg.flags & ~p.SHOW_AFTER:
             return self._reject(msg.seq, p.Reason.BAD_FLAGS, msg.flags)
-        if msg.seq == self.last_frame_seq:          # a retry after a lost ACK: answer, do not store again
-            self.counts.duplicates += 1
-            return p.Ack(msg.seq)
         over = np.nonzero(self.lit_per_slot(msg.data) > cfg.max_lit_per_row)[0]
         if over.size:
             return self._reject(msg.seq, p.Reason.GUARD, int(over[0]))
-        self.back = bytes(msg.data)
+        data = bytes(msg.data)
+        self.back = self.store_fault(data) if self.store_fault is not None else data
         self.last_frame_seq = msg.seq
         self.counts.accepted += 1
         if msg.flags & p.SHOW_AFTER:
             self._show(msg.seq)
-        return p.Ack(msg.seq)
+        return p.Ack(msg.seq, 0, crc16(self.back))     # read back from the buffer, as the firmware does
 
     def _show(self, seq: int | None) -> None:
         self.front = self.back

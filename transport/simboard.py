@@ -53,12 +53,14 @@ def firmware_path(build_dir: Path = BUILD_DEFAULT) -> Path:
     return Path(build_dir) / "rowcast-receiver.elf"
 
 
-def build(build_dir: Path = BUILD_DEFAULT, targets: tuple[str, ...] = ("firmware", "harness")) -> Path:
-    """Run ``make`` in firmware_stub/ for ``targets`` into ``build_dir``; returns ``build_dir``."""
+def build(build_dir: Path = BUILD_DEFAULT, targets: tuple[str, ...] = ("firmware", "harness"),
+          make_vars: tuple[str, ...] = ()) -> Path:
+    """Run ``make`` in firmware_stub/ for ``targets`` into ``build_dir``; returns ``build_dir``.
+    ``make_vars``: e.g. ``("ROWS=8", "BYTES_PER_ROW=12")`` for another capacity (firmware_stub/Makefile)."""
     missing = tools_missing()
     if missing:
         raise LinkError(f"cannot build the simulated board: missing {', '.join(missing)}")
-    cmd = ["make", "-s", "-C", str(FIRMWARE_DIR), f"BUILD={Path(build_dir).resolve()}", *targets]
+    cmd = ["make", "-s", "-C", str(FIRMWARE_DIR), f"BUILD={Path(build_dir).resolve()}", *make_vars, *targets]
     done = subprocess.run(cmd, capture_output=True, text=True)
     if done.returncode != 0:
         last = (done.stderr.strip().splitlines() or ["(no output)"])[-1]
@@ -77,10 +79,13 @@ class SimBoard:
     @classmethod
     def start(cls, profile: Profile | None = None, *, registers: int | None = None,
               build_dir: Path = BUILD_DEFAULT, records: Path | None = None, link: Path | None = None,
-              realtime: bool = False, max_cycles: int = 0, timeout: float = 10.0) -> "SimBoard":
+              realtime: bool = False, max_cycles: int = 0, timeout: float = 10.0,
+              spi_bits: bool = False, firmware: Path | None = None) -> "SimBoard":
+        """``spi_bits``: also record every byte as it left on the serial data line (``Records.spi_bits``).
+        ``firmware``: another ELF than the build folder's (a build with another capacity)."""
         if registers is None:
             registers = len(profile.chain.registers) if profile is not None else 3
-        harness, elf = harness_path(build_dir), firmware_path(build_dir)
+        harness, elf = harness_path(build_dir), Path(firmware) if firmware is not None else firmware_path(build_dir)
         for need in (harness, elf):
             if not need.exists():
                 raise LinkError(f"{need}: not built (run make -C firmware_stub firmware harness)")
@@ -93,6 +98,8 @@ class SimBoard:
             cmd += ["--pty-link", str(link)]
         if realtime:
             cmd.append("--realtime")
+        if spi_bits:
+            cmd.append("--spi-bits")
         if max_cycles:
             cmd += ["--max-cycles", str(max_cycles)]
         proc = subprocess.Popen(cmd, stdin=subprocess.PIPE, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
@@ -196,6 +203,8 @@ class Records:
     busy: tuple[int, int, int] | None = None     # cycles in the scan handlers, window, outer entries
     spi_collisions: int | None = None      # SPDR writes the simulated SPI refused (WCOL)
     end: int | None = None
+    spi_cycles: np.ndarray = field(default_factory=lambda: np.zeros(0, np.int64))
+    spi_bits: np.ndarray = field(default_factory=lambda: np.zeros((0, 8), np.uint8))   # (N, 8): first bit sent first
 
     def oe_at(self, cycle: int) -> int:
         """Output-enable state in force at ``cycle``."""
@@ -209,6 +218,8 @@ def parse_records(lines: list[str] | str) -> Records:
     cycles: list[int] = []
     hexes: list[str] = []
     oe: list[tuple[int, int]] = []
+    spi_cycles: list[int] = []
+    spi_bits: list[str] = []
     recs = Records(np.zeros(0, np.int64), np.zeros((0, 0), np.uint8), np.zeros((0, 2), np.int64))
     for line in lines:
         if not line.startswith(PREFIX):
@@ -220,6 +231,9 @@ def parse_records(lines: list[str] | str) -> Records:
             hexes.append(parts[2])
         elif kind == "oe":
             oe.append((int(parts[1]), int(parts[2])))
+        elif kind == "spi":
+            spi_cycles.append(int(parts[1]))
+            spi_bits.append(parts[2])
         elif kind == "reset":
             recs.resets.append(int(parts[1]))
         elif kind == "stall":
@@ -239,6 +253,9 @@ def parse_records(lines: list[str] | str) -> Records:
     if hexes:
         recs.latch_bytes = np.frombuffer(bytes.fromhex("".join(hexes)), np.uint8).reshape(len(hexes), -1)
     recs.oe = np.array(oe, np.int64).reshape(-1, 2)
+    if spi_bits:
+        recs.spi_cycles = np.array(spi_cycles, np.int64)
+        recs.spi_bits = (np.frombuffer("".join(spi_bits).encode(), np.uint8) - ord("0")).reshape(-1, 8)
     return recs
 
 
@@ -247,5 +264,10 @@ def read_records(path: Path) -> Records:
 
 
 def latched_shift_bytes(records: Records, profile: Profile) -> np.ndarray:
-    """Latched states in shift order (what ``composer.wiring.decode_shift_bytes`` reads)."""
-    return chain_to_shift_order(profile, records.latch_bytes)
+    """Latched states in shift order, as the bytes that were shifted (what
+    ``composer.wiring.decode_shift_bytes`` reads). The records hold output states (bit k = Qk); in an
+    lsb-first chain byte bit n ends on Q(7 - n), so those are mirrored back."""
+    states = chain_to_shift_order(profile, records.latch_bytes)
+    if profile.chain.bit_order == "lsb-first":
+        states = np.packbits(np.unpackbits(states[..., None], axis=-1)[..., ::-1], axis=-1)[..., 0]
+    return states

@@ -27,16 +27,29 @@ class Pending:
     verdict: Any = None
     frame: np.ndarray | None = field(default=None, repr=False)
     on_done: Callable[["Pending"], None] | None = field(default=None, repr=False)
+    expect_crc: int | None = None      # CRC-16 of the slot bytes sent: the receiver's read-back must match
+    mismatch: bool = False             # the receiver answered, but what it holds is not what was sent
+
+
+def _seq_after(a: int, b: int) -> int:
+    """How far seq ``a`` is after ``b``, modulo 65536 (negative: before)."""
+    return ((a - b + 0x8000) & 0xFFFF) - 0x8000
 
 
 class Window:
-    """Messages sent and not yet answered, oldest first.
+    """Messages sent and not yet answered, oldest first: a go-back-N sender.
 
-    The receiver answers in order (PROTOCOL.md section 5), so an answer to ``seq`` means every older
-    message still outstanding was lost or its answer was: an older FRAME is then *superseded* (the
-    newer frame is the one on the panel; sending the older one again would go backwards). When the
-    oldest message's answer is overdue, everything outstanding is sent again in order (go-back-N);
-    after ``retries`` resends the oldest gives up.
+    The receiver takes messages in sequence order only (PROTOCOL.md section 5): it refuses one from
+    ahead (OUT_OF_ORDER) and answers a repeat of one of its last ``MAX_UNANSWERED`` as it first
+    answered it. So each message keeps its place until its own answer arrives; when the oldest
+    answer is overdue, or the receiver says a message came out of order, everything outstanding is
+    sent again in order; after ``retries`` resends the oldest gives up (the caller must then
+    configure the receiver again, or every later message stays out of order). The messages in
+    flight span at most ``size`` sequence numbers; with ``size`` up to ``MAX_UNANSWERED`` (the
+    default 4) a repeat is always one the receiver remembers, with a larger window a frame whose
+    answer was lost may come back STALE: taken, but not verified, so not counted as shown.
+    An ACK carries the receiver's read-back CRC of what it will show; a FRAME whose CRC differs is
+    finished as a mismatch, never as acknowledged.
     """
 
     def __init__(self, size: int, timeout_s: float, retries: int) -> None:
@@ -44,51 +57,65 @@ class Window:
             raise ValueError("window size must be at least 1")
         self.size, self.timeout_s, self.retries = size, timeout_s, retries
         self.items: OrderedDict[int, Pending] = OrderedDict()
+        self._last_seq: int | None = None
+        self._go_back = False
+        self._went_back_at = float("-inf")
 
     def __len__(self) -> int:
         return len(self.items)
 
     @property
     def has_room(self) -> bool:
-        return len(self.items) < self.size
+        """Room for one more message: the outstanding ones and it span at most ``size`` sequence numbers."""
+        if not self.items:
+            return True
+        oldest = next(iter(self.items))
+        return _seq_after(self._last_seq, oldest) + 1 < self.size
 
     def add(self, item: Pending, now: float) -> None:
         item.sent_at, item.tries = now, 1
         self.items[item.seq] = item
+        self._last_seq = item.seq
 
     def answer(self, msg: p.Message) -> tuple[list[Pending], bool]:
         """Match a reply. Returns (finished items, matched)."""
         item = self.items.get(msg.seq)
         if item is None:
             return [], False
-        finished = []
-        for seq in list(self.items):
-            if seq == msg.seq:
-                break
-            older = self.items.pop(seq)
-            older.done, older.reason = True, ("superseded by a newer frame" if older.is_frame and
-                                               isinstance(msg, p.Ack) else "no answer (a later message was answered)")
-            finished.append(older)
+        if isinstance(msg, p.Reject) and msg.reason == p.Reason.OUT_OF_ORDER:
+            self._go_back = True            # an earlier message went missing: send from the oldest again
+            return [], True
         self.items.pop(msg.seq)
         item.done, item.reply = True, msg
-        if isinstance(msg, p.Reject):
+        if isinstance(msg, p.Reject) and msg.reason == p.Reason.STALE:
+            item.reason = ("no answer: the receiver took it but its answer was lost and is too old to repeat "
+                           f"(windows over {p.MAX_UNANSWERED} cannot always be verified)")
+        elif isinstance(msg, p.Reject):
             item.reason = f"rejected by the receiver: {msg.text()}"
+        elif isinstance(msg, p.Ack) and item.expect_crc is not None and msg.crc != item.expect_crc:
+            item.mismatch = True
+            item.reason = (f"read-back mismatch: the receiver holds slot bytes with CRC 0x{msg.crc:04X}, "
+                           f"rowcast sent 0x{item.expect_crc:04X}")
         else:
             item.acked = True
-        finished.append(item)
-        return finished, True
+        return [item], True
 
     def overdue(self, now: float) -> tuple[list[Pending], list[Pending]]:
         """(items to resend in order, items that gave up)."""
         failed: list[Pending] = []
         while self.items:
             oldest = next(iter(self.items.values()))
-            if now - oldest.sent_at < self.timeout_s:
+            # An OUT_OF_ORDER answer sends everything again at once, but not again for the answers
+            # to the same round (a quarter of the timeout: several line times, common practice).
+            back = self._go_back and now - self._went_back_at >= self.timeout_s / 4
+            self._go_back = False
+            if not back and now - oldest.sent_at < self.timeout_s:
                 return [], failed
             if oldest.tries <= self.retries:
                 resend = list(self.items.values())
                 for item in resend:
                     item.sent_at, item.tries = now, item.tries + 1
+                self._went_back_at = now
                 return resend, failed
             self.items.popitem(last=False)
             oldest.done, oldest.reason = True, f"no answer after {oldest.tries} tries"

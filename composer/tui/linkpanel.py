@@ -1,10 +1,12 @@
 """The link panel: choose a port, connect, live mode, play on the device, the link's status, and
 what the device displays.
 
-With a ``simrx://`` port the preview is the simulated receiver's ``displayed`` frame, decoded
-from the bytes that crossed the link (through the wiring map), never a copy of the editor's
-frame; with a real port it shows the last frame the receiver acknowledged. Every frame passes the
-guard inside :class:`transport.Link`; a blocked frame is shown as blocked and never sent.
+The preview is the device's read-back on every port (simulated receiver, ``rowcast sim``, a real
+board): a READBACK every quarter second returns the slot bytes the receiver's scan shifts out, and
+they are decoded through the wiring map — never a copy of the editor's frame. A receiver that does
+not answer READBACK is said to be so, and the preview is then cleared rather than drawn dark. Every
+frame passes the guard inside :class:`transport.Link`; a blocked frame is shown as blocked and never
+sent.
 
 The link runs on its own thread; its events come back with ``post_message`` (thread-safe) and
 every widget is touched on the UI thread only. Opening, closing and playing run in workers, and
@@ -26,10 +28,15 @@ from ..model import Animation
 from ..profile import Profile
 from .canvas import LedView
 
-__all__ = ["LinkPanel", "SIM_URL"]
+__all__ = ["LinkPanel", "sim_url"]
 
-SIM_URL = "simrx://{profile}"
-_POLL_S = 0.1          # how often the preview re-reads the simulated receiver
+_POLL_S = 0.25         # how often the preview asks the receiver what it shows (READBACK)
+
+
+def sim_url(profile: Profile) -> str:
+    """The simrx:// URL that opens a simulated receiver for this profile (its bundled name, or its file)."""
+    from transport.protocol_simrx import url_for  # the transport station owns its URL scheme
+    return url_for(profile)
 
 
 def _transport():
@@ -53,6 +60,13 @@ class LinkPanel(Vertical):
             super().__init__()
             self.kind, self.text, self.reasons = kind, text, reasons
 
+    class ReadBack(Message):
+        """What the receiver said it shows (``frame`` None: it did not answer), from the read-back worker."""
+
+        def __init__(self, frame: np.ndarray | None, text: str) -> None:
+            super().__init__()
+            self.frame, self.text = frame, text
+
     class Ports(Message):
         def __init__(self, options: list[tuple[str, str]]) -> None:
             super().__init__()
@@ -61,7 +75,7 @@ class LinkPanel(Vertical):
     def __init__(self, profile: Profile, url: str | None, **kw) -> None:
         super().__init__(**kw)
         self.profile = profile
-        self.sim_url = SIM_URL.format(profile=profile.name)
+        self.sim_url = sim_url(profile)
         self.url = url or self.sim_url
         self.auto_connect = url is not None
         self.link = None
@@ -73,6 +87,8 @@ class LinkPanel(Vertical):
         self._shown: np.ndarray | None = None
         self._shader = None                         # the editor's as-lit view (set_shader), None: flat
         self._gone = False                          # unmounted: widgets are going away
+        self._reading = False                       # a READBACK is on its way
+        self._readback_note = ""
 
     def compose(self) -> ComposeResult:
         yield Label("link to the panel", classes="pane-title")
@@ -94,6 +110,7 @@ class LinkPanel(Vertical):
         self._list_ports()
         if self.auto_connect:
             self.call_after_refresh(self.connect)
+        self.query_one("#device", LedView).display = False     # nothing read back yet
 
     # -- port list ----------------------------------------------------------------------------
     @work(thread=True, exclusive=True, group="ports", exit_on_error=False)
@@ -286,37 +303,66 @@ class LinkPanel(Vertical):
             self._say(news.text, error=True)
         elif kind == "acked":
             self.blocked = ()
-            self._say(f"acknowledged: {news.text}")
+            # Without the sequence number: read-backs share the numbering, so it says nothing to the user.
+            self._say(f"acknowledged: {news.text.split(' (seq ')[0]}")
         elif kind in ("lost", "reconnecting"):
             self.state = kind
             self._say(news.text, error=True)
         elif kind in ("reconnected", "connected"):
             self.state = "connected"
             self._say(news.text)
-        elif kind in ("rejected", "error"):
+        elif kind in ("rejected", "error", "mismatch"):
             self._say(news.text, error=True)
         else:
             self._say(news.text)
         self._refresh_labels()
-        self._poll_receiver()
+        if kind in ("opened", "acked", "reconnected", "mismatch"):
+            self._poll_receiver()               # show what the device holds now, not in a quarter second
 
-    # -- the preview --------------------------------------------------------------------------
+    # -- the preview: the device's read-back --------------------------------------------------
     def _poll_receiver(self) -> None:
-        if self._gone:
+        if self._gone or self._reading:
             return
         link = self.link
-        receiver = getattr(link, "receiver", None) if link is not None else None
-        shown = None
-        if receiver is not None:
-            try:
-                shown = receiver.displayed
-            except Exception:  # noqa: BLE001 - a receiver mid-reset
-                shown = None
-        if shown is None:
+        if link is None or not link.connected:
             return
-        if self._shown is None or not np.array_equal(shown, self._shown):
-            self._shown = np.array(shown)
-            self._draw_shown()
+        self._reading = True
+        self._read_back(link)
+
+    @work(thread=True, group="link-readback", exit_on_error=False)
+    def _read_back(self, link) -> None:
+        try:
+            display = link.read_back()
+            if display is None:
+                news = self.ReadBack(None, "the receiver did not answer READBACK: what the panel shows is unknown")
+            else:
+                frame = link.shown_frame(display)
+                if frame is None:
+                    news = self.ReadBack(None, f"the receiver read back {len(display.data)} bytes, not a frame of "
+                                               f"profile {link.profile.name}: what the panel shows is unknown")
+                else:
+                    from transport import protocol as p
+                    lit = "outputs on" if display.state & p.STATE_OUTPUTS else "outputs off (dark)"
+                    news = self.ReadBack(frame, f"read back from the receiver: {lit}")
+        except Exception as err:  # noqa: BLE001 - a port going away under us
+            news = self.ReadBack(None, f"no read-back: {' '.join(str(err).split()) or type(err).__name__}")
+        self.post_message(news)
+
+    def on_link_panel_read_back(self, news: "LinkPanel.ReadBack") -> None:
+        self._reading = False
+        if self._gone or not self.is_mounted:
+            return
+        view = self.query_one("#device", LedView)
+        self._readback_note = news.text
+        if news.frame is None:
+            view.display = False                    # unknown is not dark: draw nothing
+            self._shown = None
+        else:
+            view.display = True
+            if self._shown is None or not np.array_equal(news.frame, self._shown):
+                self._shown = np.array(news.frame)
+                self._draw_shown()
+        self._refresh_labels()
 
     def set_shader(self, shader) -> None:
         """``shader(frame) -> shades`` draws the preview as lit (the editor's as-lit view); None: flat."""
@@ -339,10 +385,9 @@ class LinkPanel(Vertical):
             note.update("BLOCKED, not sent: " + "; ".join(self.blocked))
             note.add_class("error")
         else:
-            sim = self.link is not None and getattr(self.link, "receiver", None) is not None
-            note.update("decoded from the bytes on the link" if sim else
-                        ("a real receiver: no read-back" if self.link is not None else ""))
-            note.remove_class("error")
+            unknown = self.link is not None and self._shown is None and self._readback_note
+            note.update(self._readback_note if self.link is not None else "")
+            note.set_class(bool(unknown), "error")
 
     def _say(self, text: str, *, error: bool = False) -> None:
         if not self.is_mounted or self._gone:

@@ -3,7 +3,7 @@
 #ifndef RC_CONFIG_H
 #define RC_CONFIG_H
 
-#define RC_PROTOCOL_VERSION 1u
+#define RC_PROTOCOL_VERSION 2u
 
 #ifndef RC_MAX_ROWS
 #define RC_MAX_ROWS 16u            /* PROTOCOL.md section 6: ATmega328P-class build */
@@ -26,6 +26,20 @@
  * datasheet, watchdog prescaler table, from memory), so a row must be far shorter than that. */
 #ifndef RC_MAX_ROW_PERIOD_US
 #define RC_MAX_ROW_PERIOD_US 4000u
+#endif
+
+/* Light each row must keep after its blanking: the end of blanking is counted from the moment the
+ * row tick runs, which another interrupt may delay by a few microseconds; a blanking that reaches
+ * past the row period would leave the row dark, so CONFIGURE refuses it (PROTOCOL.md section 3). */
+#ifndef RC_MIN_LIGHT_NS
+#define RC_MIN_LIGHT_NS 10000u
+#endif
+/* Answers kept for repeats (PROTOCOL.md section 5): the host keeps at most this many messages
+ * unanswered at once. */
+#define RC_ANSWERS 4u
+
+#if RC_MAX_ROWS * RC_MAX_BYTES_PER_ROW > 255
+#error "a frame must fit a byte count (rows x bytes_per_row <= 255)"
 #endif
 
 #define RC_FRAME_SLOTS 2u          /* front and back buffer */

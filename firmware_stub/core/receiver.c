@@ -7,16 +7,21 @@
 
 rc_scan_state rc_scan;
 
+/* An answer kept for a repeat of its message: ACK (reason 0) with its CRC, or REJECT reason and detail. */
+typedef struct {
+    uint8_t reason;
+    uint16_t value;                 /* ACK: read-back CRC; REJECT: detail */
+} rc_answer;
+
 static struct {
     uint8_t buf_a[RC_FRAME_BYTES], buf_b[RC_FRAME_BYTES];
     uint8_t msg[RC_MSG_MAX];
     rc_cobs_decoder dec;
     uint8_t configured;
     uint8_t max_lit;
-    uint16_t row_period_us, blanking_us;
     uint8_t xor_mask[RC_MAX_BYTES_PER_ROW], count_mask[RC_MAX_BYTES_PER_ROW];
-    uint8_t have_frame_seq;
-    uint16_t frame_seq;             /* seq of the last accepted FRAME (duplicate suppression) */
+    uint16_t expected;              /* seq of the next message taken (PROTOCOL.md section 5) */
+    rc_answer answers[RC_ANSWERS];  /* the last RC_ANSWERS answers, by seq % RC_ANSWERS, for repeats */
     uint16_t dropped;               /* saturating */
 } rc;
 
@@ -33,27 +38,59 @@ static void count_drop(void)
         rc.dropped++;
 }
 
-/* ---- replies: COBS(payload || crc) || 0x00, at most 4 + 8 + 2 bytes before stuffing ---- */
-static void reply(uint8_t type, uint16_t seq, const uint8_t *body, uint8_t n)
+/* ---- replies: COBS(payload || crc) || 0x00 ----
+ * COBS straight to the serial port, one group at a time (the paper's encoder: a full group of 254
+ * bytes is followed by a group of its own), so even the longest reply needs no second buffer. */
+static void put_cobs(const uint8_t *in, uint16_t len)
 {
-    uint8_t raw[RC_HEADER_LEN + 8 + RC_CRC_LEN], out[sizeof raw + 2];
+    uint16_t i = 0;
+    for (;;) {
+        uint16_t j = i;
+        while (j < len && in[j] != 0 && (uint16_t)(j - i) < 254u)
+            j++;
+        uint16_t n = (uint16_t)(j - i);
+        board_serial_put((uint8_t)(n + 1u));
+        while (i < j)
+            board_serial_put(in[i++]);
+        if (n == 254u)
+            continue;               /* no implied zero after a full group */
+        if (j == len)
+            break;
+        i = (uint16_t)(j + 1u);     /* skip the zero the group stands for */
+    }
+    board_serial_put(0);
+}
+
+/* raw holds the body at raw + RC_HEADER_LEN and room for the CRC after it. */
+static void send_raw(uint8_t *raw, uint8_t type, uint16_t seq, uint16_t n)
+{
     raw[0] = RC_PROTOCOL_VERSION;
     raw[1] = type;
     raw[2] = (uint8_t)seq;
     raw[3] = (uint8_t)(seq >> 8);
-    if (n)
-        memcpy(raw + RC_HEADER_LEN, body, n);   /* memcpy from a null body is undefined even for 0 bytes */
-    uint8_t len = (uint8_t)(RC_HEADER_LEN + n);
+    uint16_t len = (uint16_t)(RC_HEADER_LEN + n);
     uint16_t crc = rc_crc16(raw, len);
     raw[len++] = (uint8_t)(crc >> 8);       /* high byte first: PROTOCOL.md section 1 */
     raw[len++] = (uint8_t)crc;
-    size_t m = rc_cobs_encode(raw, len, out);
-    for (size_t i = 0; i < m; i++)
-        board_serial_put(out[i]);
-    board_serial_put(0);
+    put_cobs(raw, len);
 }
 
-static void ack(uint16_t seq) { reply(RC_ACK, seq, 0, 0); }
+static void reply(uint8_t type, uint16_t seq, const uint8_t *body, uint8_t n)
+{
+    uint8_t raw[RC_HEADER_LEN + 8 + RC_CRC_LEN];
+    if (n)
+        memcpy(raw + RC_HEADER_LEN, body, n);   /* memcpy from a null body is undefined even for 0 bytes */
+    send_raw(raw, type, seq, n);
+}
+
+/* ACK body: flags (bit 0: a repeat, answered again and not done again), read-back CRC (PROTOCOL.md). */
+static void ack_crc(uint16_t seq, uint8_t flags, uint16_t crc)
+{
+    uint8_t body[3] = {flags, (uint8_t)crc, (uint8_t)(crc >> 8)};
+    reply(RC_ACK, seq, body, 3);
+}
+
+static void ack(uint16_t seq) { ack_crc(seq, 0, 0); }
 
 static void reject(uint16_t seq, uint8_t reason, uint8_t detail)
 {
@@ -90,14 +127,17 @@ static void fill_idle(uint8_t *buf)
     }
 }
 
+/* CONFIGURE (PROTOCOL.md section 3): rows, bytes_per_row, row_period_us u16, blanking_ns u32,
+ * max_lit_per_row, options, xor_mask[bpr], count_mask[bpr]. */
 static void configure(uint16_t seq, const uint8_t *b, uint16_t n)
 {
-    if (n < 7 || n != 7u + 2u * b[1]) {
+    if (n < 10 || n != 10u + 2u * b[1]) {
         reject(seq, RC_BAD_LENGTH, 0);
         return;
     }
-    uint8_t rows = b[0], bpr = b[1], max_lit = b[6];
-    uint16_t period = (uint16_t)(b[2] | (b[3] << 8)), blanking = (uint16_t)(b[4] | (b[5] << 8));
+    uint8_t rows = b[0], bpr = b[1], max_lit = b[8], options = b[9];
+    uint16_t period = (uint16_t)(b[2] | (b[3] << 8));
+    uint32_t blanking_ns = (uint32_t)b[4] | ((uint32_t)b[5] << 8) | ((uint32_t)b[6] << 16) | ((uint32_t)b[7] << 24);
     uint8_t bad = 0xFF;
     if (rows < 1 || rows > RC_MAX_ROWS)
         bad = 0;
@@ -105,10 +145,12 @@ static void configure(uint16_t seq, const uint8_t *b, uint16_t n)
         bad = 1;
     else if (period < RC_MIN_ROW_PERIOD_US || period > RC_MAX_ROW_PERIOD_US)
         bad = 2;
-    else if (blanking >= period)
-        bad = 3;
+    else if (blanking_ns > (uint32_t)period * 1000u - RC_MIN_LIGHT_NS)   /* period >= 20 us: no wrap */
+        bad = 3;                    /* the row would stay dark: see RC_MIN_LIGHT_NS */
     else if (max_lit == 0)
         bad = 4;                    /* 0 is IDENTITY's "not configured"; a guard that lets nothing light is a mistake */
+    else if (options & (uint8_t)~RC_OPT_LSB_FIRST)
+        bad = 5;
     if (bad != 0xFF) {
         reject(seq, RC_BAD_CONFIG, bad);
         return;
@@ -118,11 +160,13 @@ static void configure(uint16_t seq, const uint8_t *b, uint16_t n)
     board_tick_stop();
     rc.configured = 1;
     rc.max_lit = max_lit;
-    rc.row_period_us = period;
-    rc.blanking_us = blanking;
-    memcpy(rc.xor_mask, b + 7, bpr);
-    memcpy(rc.count_mask, b + 7 + bpr, bpr);
-    rc.have_frame_seq = 0;
+    memcpy(rc.xor_mask, b + 10, bpr);
+    memcpy(rc.count_mask, b + 10 + bpr, bpr);
+    rc.expected = (uint16_t)(seq + 1u);
+    for (uint8_t i = 0; i < RC_ANSWERS; i++) {     /* repeats of messages before this CONFIGURE are stale */
+        rc.answers[i].reason = RC_STALE;
+        rc.answers[i].value = 0;
+    }
     rc_scan.rows = rows;
     rc_scan.bpr = bpr;
     rc_scan.front = rc.buf_a;
@@ -130,6 +174,8 @@ static void configure(uint16_t seq, const uint8_t *b, uint16_t n)
     rc_scan.swap_req = 0;
     fill_idle(rc.buf_a);
     fill_idle(rc.buf_b);
+    /* The chain's bit order: the SPI sends each byte as the profile's wiring expects. */
+    board_spi_order(options & RC_OPT_LSB_FIRST);
     /* Prime the shift stage with an idle slot and mark the scan complete, so the first tick
      * latches the idle slot and moves on to slot 0. */
     rc_scan.size = (uint8_t)(rows * bpr);
@@ -137,7 +183,7 @@ static void configure(uint16_t seq, const uint8_t *b, uint16_t n)
     rc_scan.next = rc_scan.end;
     for (uint8_t i = 0; i < bpr; i++)
         board_spi_put(rc.xor_mask[i]);
-    board_tick_start(period, blanking);
+    board_tick_start(period, blanking_ns);
     ack(seq);
 }
 
@@ -185,27 +231,35 @@ static void show(void)
     board_critical_exit();
 }
 
-static void frame(uint16_t seq, const uint8_t *b, uint16_t n)
+/* Read-back: CRC-16 of a buffer's slot bytes as they are in memory now. */
+static uint16_t buffer_crc(const uint8_t *buf) { return rc_crc16(buf, rc_scan.size); }
+
+/* The buffer the panel shows once any SHOW waiting for the end of the scan has been served. */
+static const uint8_t *showing(void) { return rc_scan.swap_req ? rc_scan.back : rc_scan.front; }
+
+static rc_answer answer_ack(uint16_t crc)
 {
-    uint16_t size = (uint16_t)(rc_scan.rows * rc_scan.bpr);
-    if (n != 1u + size) {
-        reject(seq, RC_BAD_LENGTH, 0);
-        return;
-    }
+    rc_answer a = {0, crc};
+    return a;
+}
+
+static rc_answer answer_reject(uint8_t reason, uint8_t detail)
+{
+    rc_answer a = {reason, detail};
+    return a;
+}
+
+static rc_answer frame(const uint8_t *b, uint16_t n)
+{
+    uint16_t size = rc_scan.size;
+    if (n != 1u + size)
+        return answer_reject(RC_BAD_LENGTH, 0);
     uint8_t flags = b[0];
-    if (flags & (uint8_t)~RC_SHOW_AFTER) {
-        reject(seq, RC_BAD_FLAGS, flags);
-        return;
-    }
-    if (rc.have_frame_seq && seq == rc.frame_seq) {
-        ack(seq);                   /* a retry after a lost ACK: not stored again */
-        return;
-    }
+    if (flags & (uint8_t)~RC_SHOW_AFTER)
+        return answer_reject(RC_BAD_FLAGS, flags);
     uint8_t over = guard(b + 1);
-    if (over != 0xFF) {
-        reject(seq, RC_GUARD, over);
-        return;
-    }
+    if (over != 0xFF)
+        return answer_reject(RC_GUARD, over);
     /* A SHOW may still be waiting for the end of the scan; never write the back buffer before it
      * has been served (at most one full scan away), or the panel would show a half-written frame,
      * or this frame under an earlier SHOW. */
@@ -215,11 +269,46 @@ static void frame(uint16_t seq, const uint8_t *b, uint16_t n)
     board_critical_enter();
     rc_scan.swap_req = 1;
     board_critical_exit();
-    rc.have_frame_seq = 1;
-    rc.frame_seq = seq;
     if (flags & RC_SHOW_AFTER)
         show();
-    ack(seq);
+    return answer_ack(buffer_crc(rc_scan.back));
+}
+
+/* DISPLAY (answer to READBACK): state, then the slot bytes the scan shifts out now (none before a
+ * CONFIGURE). Built in the message buffer, which READBACK (an empty body) no longer needs. */
+static void display(uint16_t seq)
+{
+    uint8_t *raw = rc.msg;
+    uint8_t n = rc.configured ? rc_scan.size : 0;
+    raw[RC_HEADER_LEN] = (uint8_t)(rc_state_bits() | (rc_scan.swap_req && rc_scan.show_req ? RC_STATE_SWAP_DUE : 0));
+    if (n)
+        memcpy(raw + RC_HEADER_LEN + 1, (const uint8_t *)rc_scan.front, n);
+    send_raw(raw, RC_DISPLAY, seq, (uint16_t)(1u + n));
+}
+
+/* One sequenced message taken in order: do it and say how it went. */
+static rc_answer take(uint8_t type, const uint8_t *body, uint16_t blen)
+{
+    switch (type) {
+    case RC_BLANK:
+        outputs_off();
+        return answer_ack(0);
+    case RC_SHOW:
+        show();
+        return answer_ack(buffer_crc(showing()));
+    case RC_FRAME:
+        return frame(body, blen);
+    default:                        /* PING */
+        return answer_ack(0);
+    }
+}
+
+static void send_answer(uint16_t seq, rc_answer a, uint8_t repeat)
+{
+    if (a.reason)
+        reject(seq, a.reason, (uint8_t)a.value);
+    else
+        ack_crc(seq, repeat, a.value);
 }
 
 static void handle(const uint8_t *p, uint16_t n)
@@ -233,7 +322,7 @@ static void handle(const uint8_t *p, uint16_t n)
         return;
     }
     switch (type) {
-    case RC_IDENTIFY: case RC_SHOW: case RC_BLANK: case RC_PING:
+    case RC_IDENTIFY: case RC_SHOW: case RC_BLANK: case RC_PING: case RC_READBACK:
         if (blen != 0) {
             reject(seq, RC_BAD_LENGTH, 0);
             return;
@@ -248,29 +337,45 @@ static void handle(const uint8_t *p, uint16_t n)
         reject(seq, RC_UNKNOWN_TYPE, type);
         return;
     }
-    switch (type) {
-    case RC_IDENTIFY:
+    if (type == RC_IDENTIFY) {
         identity(seq);
         return;
-    case RC_PING:
-        ack(seq);
-        return;
-    default:
-        break;
     }
     if (!rc.configured) {
-        reject(seq, RC_NOT_CONFIGURED, 0);  /* BLANK too: the outputs are off anyway (as transport/receiver.py) */
+        if (type == RC_PING)
+            ack(seq);
+        else if (type == RC_READBACK)
+            display(seq);
+        else
+            reject(seq, RC_NOT_CONFIGURED, 0);  /* BLANK too: the outputs are off anyway (as transport/receiver.py) */
         return;
     }
-    if (type == RC_BLANK) {
-        outputs_off();
-        ack(seq);
-    } else if (type == RC_SHOW) {
-        show();
-        ack(seq);
-    } else {
-        frame(seq, body, blen);
+    /* Messages are taken in sequence order (PROTOCOL.md section 5): the next one is done; a repeat
+     * of one of the last RC_ANSWERS is answered again as it was first answered, not done again; a
+     * message from further ahead waits for the host to send the missing ones first. So the panel
+     * never steps back to an older frame and never skips one the host is still sending. */
+    int16_t d = (int16_t)(uint16_t)(seq - rc.expected);
+    if (d > 0) {
+        reject(seq, RC_OUT_OF_ORDER, 0);
+        return;
     }
+    if (type == RC_READBACK) {      /* changes nothing: always answered from what is shown now */
+        if (d == 0)
+            rc.expected++;
+        display(seq);
+        return;
+    }
+    rc_answer *slot = &rc.answers[seq % RC_ANSWERS];
+    if (d < 0) {
+        if (d < -(int16_t)RC_ANSWERS)
+            reject(seq, RC_STALE, 0);
+        else
+            send_answer(seq, *slot, 1);
+        return;
+    }
+    *slot = take(type, body, blen);
+    rc.expected++;
+    send_answer(seq, *slot, 0);
 }
 
 void rc_rx_byte(uint8_t byte)

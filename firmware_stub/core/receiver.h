@@ -7,15 +7,17 @@
 /* Message types and reject reasons: PROTOCOL.md sections 3 and 4. */
 enum {
     RC_IDENTIFY = 0x01, RC_CONFIGURE = 0x02, RC_FRAME = 0x03, RC_SHOW = 0x04, RC_BLANK = 0x05,
-    RC_PING = 0x06, RC_ACK = 0x80, RC_IDENTITY = 0x81, RC_REJECT = 0x82
+    RC_PING = 0x06, RC_READBACK = 0x07, RC_ACK = 0x80, RC_IDENTITY = 0x81, RC_REJECT = 0x82, RC_DISPLAY = 0x83
 };
 enum {
     RC_UNKNOWN_TYPE = 0x01, RC_BAD_LENGTH = 0x02, RC_BAD_VERSION = 0x03, RC_NOT_CONFIGURED = 0x04,
-    RC_GUARD = 0x05, RC_BAD_CONFIG = 0x06, RC_BAD_FLAGS = 0x07
+    RC_GUARD = 0x05, RC_BAD_CONFIG = 0x06, RC_BAD_FLAGS = 0x07, RC_OUT_OF_ORDER = 0x08, RC_STALE = 0x09
 };
 #define RC_SHOW_AFTER 0x01u
 #define RC_STATE_CONFIGURED 0x01u
 #define RC_STATE_OUTPUTS 0x02u
+#define RC_STATE_SWAP_DUE 0x04u     /* DISPLAY only: a shown frame waits for the end of the scan */
+#define RC_OPT_LSB_FIRST 0x01u      /* CONFIGURE options bit 0: each byte goes out bit 0 first */
 
 /* State shared with the row tick. Only rc_scan_tick (interrupt) and the functions in receiver.c
  * touch it; fields the tick reads while the main loop writes are volatile. */

@@ -5,6 +5,8 @@
  * prints lines of its own:
  *   @rc pty <slave path> <link or ->        the port to give the host
  *   @rc latch <cycle> <hex>                 every latch pulse: register contents, nearest the MCU first
+ *   @rc spi <cycle> <bits>                  with --spi-bits: each byte as it left on MOSI, the first
+ *                                           bit first ("10110000"), in the order SPCR's DORD gives
  *   @rc oe <cycle> <0|1>                    output-enable inactive/active (active low on PB2; a
  *                                           floating pin counts as inactive: pull-up)
  *   @rc reset <cycle>                       the AVR was reset (watchdog)
@@ -18,10 +20,12 @@
  * Commands (one per line on stdin, with --commands): stall, mark TEXT, stats-reset, stats, quit,
  * and now (answers "@rc now <cycle>" on stdout whatever --records says).
  *
- * simavr 1.6's SPI model completes a byte 100 us after the SPDR write whatever the clock divider;
- * this harness replaces the SPDR write handler with one that honours SPR1:0 and SPI2X
- * (8 bits x divider cycles: 16 cycles at fosc/2), as the ATmega328P datasheet describes, with the
- * data sheet's SPIF/WCOL rules (see the SPI section below). */
+ * simavr 1.6's SPI model completes a byte 100 us after the SPDR write whatever the clock divider,
+ * and ignores the data order; this harness replaces the SPDR write handler with one that honours
+ * SPR1:0 and SPI2X (8 bits x divider cycles: 16 cycles at fosc/2) and DORD (1: the LSB is sent
+ * first), as the ATmega328P datasheet describes, with the data sheet's SPIF/WCOL rules (see the SPI
+ * section below). simavr's 74HC595 part takes a whole byte and puts its bit 7 on Q7 (the order of
+ * an MSB-first shift), so with DORD set the byte is handed to it with its bits reversed. */
 #define _GNU_SOURCE
 #include <errno.h>
 #include <fcntl.h>
@@ -72,7 +76,7 @@ static uint8_t inbuf[512];
 static size_t in_len, in_pos;
 static avr_spi_t *spi;
 static unsigned long spi_collisions;
-static int realtime;
+static int realtime, spi_bits;
 static struct timespec t0;
 static uint64_t max_cycles;
 
@@ -194,6 +198,20 @@ static void spdr_write(struct avr_t *a, avr_io_addr_t addr, uint8_t v, void *par
     int d = div[a->data[A_SPCR] & 3];
     if (a->data[A_SPSR] & 1)
         d /= 2;                                             /* SPI2X */
+    int lsb_first = (a->data[A_SPCR] & 0x20) != 0;          /* DORD */
+    if (spi_bits) {
+        char bits[9];
+        for (int i = 0; i < 8; i++)
+            bits[i] = (char)('0' + ((v >> (lsb_first ? i : 7 - i)) & 1));
+        bits[8] = 0;
+        fprintf(rec, "@rc spi %llu %s\n", (unsigned long long)a->cycle, bits);
+    }
+    if (lsb_first) {
+        uint8_t r = 0;
+        for (int i = 0; i < 8; i++)
+            r = (uint8_t)(r | (((v >> i) & 1) << (7 - i)));
+        v = r;
+    }
     spi_byte = v;
     spi_busy = 1;
     avr_cycle_timer_register(a, (avr_cycle_count_t)(8 * d), spi_done, NULL);
@@ -346,7 +364,7 @@ static void on_signal(int sig) { (void)sig; quit = 1; }
 static void usage(void)
 {
     fprintf(stderr, "usage: rowcast-harness FIRMWARE.elf [--registers N] [--pty-link PATH] [--records FILE]\n"
-                    "       [--max-cycles N] [--realtime] [--commands]\n");
+                    "       [--max-cycles N] [--realtime] [--commands] [--spi-bits]\n");
     exit(2);
 }
 
@@ -360,6 +378,7 @@ int main(int argc, char **argv)
         else if (!strcmp(argv[i], "--max-cycles") && i + 1 < argc) max_cycles = strtoull(argv[++i], NULL, 10);
         else if (!strcmp(argv[i], "--realtime")) realtime = 1;
         else if (!strcmp(argv[i], "--commands")) commands = 1;
+        else if (!strcmp(argv[i], "--spi-bits")) spi_bits = 1;
         else if (argv[i][0] != '-' && !elf) elf = argv[i];
         else usage();
     }

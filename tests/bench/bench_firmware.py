@@ -17,6 +17,8 @@ nested inside the row interrupt already lies inside its window).
 """
 from __future__ import annotations
 
+import math
+
 import re
 import subprocess
 import sys
@@ -64,11 +66,13 @@ def measure(build: Path, profile, row_period_us: int, tmp: Path) -> dict:
     limit = int(2 * len(range(0, profile.cols, 2)))         # ... which the guard configured here allows
     with simboard.SimBoard.start(profile, build_dir=build, records=recs_path) as board:
         with serial.serial_for_url(board.port, baudrate=115200, timeout=0.05) as port:
-            assert exchange(port, P.Identify(1))[0].version == 1
-            cfg = P.Configure(2, profile.rows, len(masks.xor), row_period_us, int(profile.scan.blanking_us),
-                              limit, masks.xor, masks.count)
+            assert exchange(port, P.Identify(1))[0].version == P.VERSION
+            cfg = P.Configure(2, profile.rows, len(masks.xor), row_period_us,
+                              math.ceil(round(profile.scan.blanking_us * 1000, 3)), limit, masks.xor, masks.count,
+                              P.LSB_FIRST if profile.chain.bit_order == "lsb-first" else 0)
             assert exchange(port, cfg) == [P.Ack(2)]
-            assert exchange(port, P.Frame(3, shift_bytes(frame, profile).tobytes())) == [P.Ack(3)]
+            data = shift_bytes(frame, profile).tobytes()
+            assert exchange(port, P.Frame(3, data)) == [P.Ack(3, 0, P.crc16(data))]
             board.wait_cycles(F // 100)
             board.command("stats-reset")
             board.mark("window")

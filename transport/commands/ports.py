@@ -12,7 +12,7 @@ __all__ = ["configure", "run"]
 
 def configure(parser: argparse.ArgumentParser) -> None:
     parser.epilog = ("any pyserial URL also works as --port for rowcast stream: loop://, socket://HOST:PORT, "
-                     "rfc2217://HOST:PORT, and simrx://PROFILE (a simulated receiver). " + (parser.epilog or ""))
+                     "rfc2217://HOST:PORT, and simrx://NAME-or-PATH (a simulated receiver). " + (parser.epilog or ""))
 
 
 def run(args: argparse.Namespace) -> int:

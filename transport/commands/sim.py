@@ -5,6 +5,10 @@ cache folder (``transport.simcache``; never inside the installed package), start
 with the profile's chain length of simulated 74HC595-class registers, and prints the serial port to
 give ``rowcast stream --port`` or the composer. Runs until Ctrl-C (or ``--seconds``), paced to
 wall-clock time so animations play at their real speed.
+
+The simulated board runs the same firmware a real ATmega328P-class board runs (``make`` and ``make flash`` in
+firmware_stub/, its README says how); nothing in it depends on the wiring: the bit order of the chain comes
+over the wire in CONFIGURE and the firmware sets its SPI data order from it.
 """
 from __future__ import annotations
 
@@ -27,6 +31,10 @@ MAX_ROWS = 16           # RC_MAX_ROWS
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
+    parser.epilog = ("For a real board: make -C firmware_stub, then make -C firmware_stub flash PORT=... (see "
+                     "firmware_stub/README.md first: cautions, programmer). The same build serves every wiring: "
+                     "rowcast sends the chain's bit order in CONFIGURE and the firmware sets its SPI data order. "
+                     + (parser.epilog or ""))
     parser.add_argument("--profile", default="bench-8x8", metavar="P",
                         help="hardware profile (name or path) whose chain the simulator wires (default bench-8x8)")
     parser.add_argument("--link", metavar="PATH", help="also make PATH a symbolic link to the port")
@@ -57,6 +65,9 @@ def run(args: argparse.Namespace) -> int:
     port = board.link or board.port
     print(f"simulated receiver for {profile.name} ({n_regs} registers, ATmega328P-class core at 16 MHz) on {port}")
     print(f"  rowcast stream PATTERN --port {port}")
+    print(f"  a real board runs the same firmware: make -C {simboard.FIRMWARE_DIR} && make -C {simboard.FIRMWARE_DIR} "
+          f"flash PORT=... (its README, 'Building for a real board'); the chain's bit order ({profile.chain.bit_order}) "
+          "is sent in CONFIGURE when rowcast connects, so one build serves every wiring")
     sys.stdout.flush()
     def stop_on_term(signum: int, frame: object) -> None:
         raise KeyboardInterrupt

@@ -23,7 +23,7 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.rowcast.toml) or bundled demo name")
     parser.add_argument("--port", required=True, metavar="URL",
                         help="serial port or pyserial URL (/dev/ttyACM0, COM3, socket://host:port, "
-                             "rfc2217://host:port, simrx://PROFILE for a simulated receiver)")
+                             "rfc2217://host:port, simrx://NAME-or-PATH for a simulated receiver)")
     parser.add_argument("--baud", type=int, default=115200, metavar="N", help="line rate (default 115200)")
     parser.add_argument("--loop", action="store_true", help="play again from the start until Ctrl-C")
     parser.add_argument("--profile", metavar="P", help="hardware profile (name or path) instead of the pattern's")
@@ -82,12 +82,13 @@ def run(args: argparse.Namespace) -> int:
         print(f"link: {st.retransmits} messages sent again, {link.decoder.counts.dropped} bad blocks from the receiver "
               f"dropped, {st.reconnects} reconnects", file=sys.stderr)
     print(f"played {report.frames} frames in {report.elapsed_s:.2f} s: {report.acked} shown, "
-          f"{report.rejected} rejected, {report.failed} not answered, {report.skipped} skipped while the link was down")
+          f"{report.rejected} rejected, {report.mismatched} read back wrong, {report.failed} not answered, "
+          f"{report.skipped} skipped while the link was down")
     if report.rejected or report.blocked:
         return EXIT_VIOLATION
     return EXIT_OK if report.acked == report.frames else EXIT_LINK
 
 
 def _print_event(ev: LinkEvent) -> None:
-    if ev.kind in ("connected", "lost", "reconnecting", "reconnected", "error"):
+    if ev.kind in ("connected", "lost", "reconnecting", "reconnected", "error", "mismatch"):
         print(f"link: {ev.message}", file=sys.stderr, flush=True)

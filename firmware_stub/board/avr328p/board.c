@@ -33,7 +33,7 @@ void board_init(void)
     PORTB = _BV(RC_PIN_OE);                         /* outputs disabled before the pin drives */
     DDRB = _BV(RC_PIN_OE) | _BV(RC_PIN_LATCH) | _BV(PB3) | _BV(PB5);
     GPIOR0 = 0;
-    SPCR = _BV(SPE) | _BV(MSTR);                    /* mode 0, MSB first */
+    SPCR = _BV(SPE) | _BV(MSTR);                    /* mode 0, MSB first until CONFIGURE says otherwise */
     SPSR = _BV(SPI2X);                              /* fosc/2 */
     UBRR0 = (uint16_t)(F_CPU / 8UL / RC_BAUD - 1UL);
     UCSR0A = _BV(U2X0);
@@ -43,10 +43,11 @@ void board_init(void)
     sei();
 }
 
-void board_tick_start(uint16_t row_period_us, uint16_t blanking_us)
+void board_tick_start(uint16_t row_period_us, uint32_t blanking_ns)
 {
     uint16_t top = (uint16_t)(row_period_us * RC_CYCLES_PER_US - 1u);
-    rc_blank_cycles = (uint16_t)(blanking_us * RC_CYCLES_PER_US);
+    /* Rounded up: the dark gap is never shorter than asked. */
+    rc_blank_cycles = (uint16_t)((blanking_ns * RC_CYCLES_PER_US + 999UL) / 1000UL);
     TCCR1B = 0;
     TCCR1A = 0;
     TCNT1 = 0;

@@ -33,7 +33,7 @@ extern volatile uint8_t rc_rx_head, rc_rx_tail, rc_tx_head, rc_tx_tail;
 extern uint16_t rc_blank_cycles;
 
 void board_init(void);
-void board_tick_start(uint16_t row_period_us, uint16_t blanking_us);
+void board_tick_start(uint16_t row_period_us, uint32_t blanking_ns);
 void board_tick_stop(void);
 void board_serial_put(uint8_t b);
 
@@ -45,6 +45,15 @@ static inline int16_t board_serial_get(void)
     uint8_t b = rc_rx_buf[t];
     rc_rx_tail = (uint8_t)((t + 1) & (RC_RX_SIZE - 1));
     return b;
+}
+
+/* SPCR's DORD bit: 1 sends bit 0 first (ATmega328P datasheet, SPI control register). */
+static inline void board_spi_order(uint8_t lsb_first)
+{
+    if (lsb_first)
+        SPCR |= _BV(DORD);
+    else
+        SPCR &= (uint8_t)~_BV(DORD);
 }
 
 static inline void board_spi_put(uint8_t b)
@@ -80,11 +89,18 @@ static inline void board_latch(void)
 static inline void board_blank(void) { PORTB |= _BV(RC_PIN_OE); }
 
 /* End of blanking: compare B, counted from now; then let it in even while the rest of the tick
- * runs. If the sum passes the row period, compare B does not match and the row stays dark (safe). */
+ * runs. A compare value the counter reaches before its flag is cleared would never match this row
+ * (the panel stayed dark with blanking_us = 0), so the counter is read again after arming: if the
+ * blanking time has already passed, output-enable goes active here (if outputs are on). A late
+ * second activation by compare B is harmless. CONFIGURE keeps the compare inside the row period
+ * (RC_MIN_LIGHT_NS). */
 static inline void board_unblank_later(void)
 {
-    OCR1B = (uint16_t)(TCNT1 + rc_blank_cycles);
+    uint16_t t = TCNT1;
+    OCR1B = (uint16_t)(t + rc_blank_cycles);
     TIFR1 = _BV(OCF1B);
+    if ((uint16_t)(TCNT1 - t) >= rc_blank_cycles && (GPIOR0 & _BV(RC_OUTPUTS_BIT)))
+        PORTB &= (uint8_t)~_BV(RC_PIN_OE);
     sei();
 }
 

@@ -10,9 +10,10 @@ enum {
     HOST_EV_BLANK,
     HOST_EV_UNBLANK,        /* output-enable went active after the blanking time */
     HOST_EV_OUTPUTS,        /* value: 0/1 */
-    HOST_EV_TICK_START,     /* value: row_period_us << 16 | blanking_us */
+    HOST_EV_TICK_START,     /* value: row_period_us (blanking: host_blanking_ns) */
     HOST_EV_TICK_STOP,
-    HOST_EV_KICK
+    HOST_EV_KICK,
+    HOST_EV_SPI_ORDER       /* value: 1 bit 0 first, 0 bit 7 first */
 };
 
 void board_init(void);
@@ -24,7 +25,8 @@ void board_latch(void);
 void board_blank(void);
 void board_unblank_later(void);
 void board_outputs(uint8_t on);
-void board_tick_start(uint16_t row_period_us, uint16_t blanking_us);
+void board_tick_start(uint16_t row_period_us, uint32_t blanking_ns);
+void board_spi_order(uint8_t lsb_first);
 void board_tick_stop(void);
 void board_watchdog_kick(void);
 void board_wait_for_tick(void);

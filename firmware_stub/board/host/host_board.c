@@ -18,6 +18,8 @@ static struct {
     uint32_t n_tx;
     uint8_t ticking, oe, outputs;
     uint32_t ticks, kicks;
+    uint32_t blanking_ns;
+    uint8_t lsb_first;
 } h;
 
 static void ev(uint32_t type, uint32_t value)
@@ -50,11 +52,13 @@ void board_outputs(uint8_t on)
         h.oe = 0;
     ev(HOST_EV_OUTPUTS, on);
 }
-void board_tick_start(uint16_t period, uint16_t blanking)
+void board_tick_start(uint16_t period, uint32_t blanking_ns)
 {
     h.ticking = 1;
-    ev(HOST_EV_TICK_START, ((uint32_t)(period & 0xFF) << 16) | blanking);
+    h.blanking_ns = blanking_ns;
+    ev(HOST_EV_TICK_START, period);
 }
+void board_spi_order(uint8_t lsb_first) { h.lsb_first = lsb_first; ev(HOST_EV_SPI_ORDER, lsb_first); }
 void board_tick_stop(void) { h.ticking = 0; ev(HOST_EV_TICK_STOP, 0); }
 void board_watchdog_kick(void) { h.kicks++; }
 
@@ -106,6 +110,14 @@ uint32_t host_tx(uint8_t *out, uint32_t max)
 }
 
 uint32_t host_oe(void) { return h.oe; }
+uint32_t host_blanking_ns(void) { return h.blanking_ns; }
+uint32_t host_lsb_first(void) { return h.lsb_first; }
+/* Test hook: overwrite one byte of the buffer the scan shows (a fault the read-back must report). */
+void host_poke_front(uint32_t index, uint8_t value)
+{
+    if (index < rc_scan.size)
+        ((uint8_t *)rc_scan.front)[index] = value;
+}
 uint32_t host_kicks(void) { return h.kicks; }
 uint32_t host_state(void) { return rc_state_bits(); }
 uint32_t host_dropped(void) { return rc_rx_dropped(); }
