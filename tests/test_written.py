@@ -237,3 +237,18 @@ def test_composer_save_is_read_back_before_it_counts_as_saved(tmp_path, monkeypa
     assert session.save(target) == target and not session.dirty
     doc = tomllib.loads(target.read_text())
     assert len(doc["frame"]) == 2 and doc["frame"][0]["leds"].splitlines()[1][1] == "r"
+
+
+def test_a_preview_larger_than_pillows_bomb_limit_is_still_checked(tmp_path, monkeypatch, capsys):
+    """pillow refuses images over twice ``MAX_IMAGE_PIXELS`` (its decompression-bomb guard, meant for files
+    from outside); our own preview may be larger, so the read-back raises the limit for that decode only."""
+    pat, _ = _pattern(tmp_path)
+    # above pillow's own bitmap font (the sheet's labels), far below a 512x512-pixel frame at --scale 64
+    monkeypatch.setattr(Image, "MAX_IMAGE_PIXELS", 20_000)
+    for kind in ("gif", "png"):
+        target = tmp_path / f"big.{kind}"
+        assert main(["export", str(pat), f"--{kind}", str(target), "--scale", "64"]) == 0, capsys.readouterr().err
+        assert f"wrote {target}" in capsys.readouterr().out
+        assert Image.MAX_IMAGE_PIXELS == 20_000                    # put back for files from outside
+        with pytest.raises(Image.DecompressionBombError):
+            Image.open(target).load()                              # the guard still holds for any other read
