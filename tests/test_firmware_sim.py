@@ -208,12 +208,14 @@ def test_bench_8x8_end_to_end(build_dir, tmp_path):
     tick = next(st for st in recs.isr if st.vector == 11)
     assert tick.count >= 28 * profile.rows and tick.max + 8 < 20 * F // 1_000_000, tick
 
-    # 6. A scan stall: output-enable inactive within the watchdog period, and it stays so.
+    # 6. A scan stall: output-enable inactive within the watchdog period, and it stays so. The stall can
+    #    land inside a row interrupt that still feeds the watchdog before it returns: one interrupt more.
     (stall,) = recs.stalls
+    last_kick_by = stall + tick.max + 8
     later_off = [int(c) for c, state in oe if c >= stall and state == 0]
-    assert later_off and later_off[0] - stall <= WATCHDOG_CYCLES, (later_off, stall)
+    assert later_off and later_off[0] - last_kick_by <= WATCHDOG_CYCLES, (later_off, stall)
     assert recs.oe_at(m["end"]) == 0
-    assert recs.resets and recs.resets[0] - stall <= WATCHDOG_CYCLES
+    assert recs.resets and recs.resets[0] - last_kick_by <= WATCHDOG_CYCLES
 
 
 @pytest.mark.parametrize("name", ["wide-16x8", "cathode-8x8"])
