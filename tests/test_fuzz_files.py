@@ -101,7 +101,7 @@ def snapshot(folder: Path) -> dict[str, bytes]:
     return {p.name: p.read_bytes() for p in folder.iterdir()}
 
 
-_SETTINGS = settings(max_examples=int(os.environ.get("ROWCAST_FUZZ_EXAMPLES", "150")), deadline=None,
+_SETTINGS = settings(max_examples=int(os.environ.get("ROWCAST_FUZZ_EXAMPLES", "300")), deadline=None,
                      suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large,
                                             HealthCheck.function_scoped_fixture])
 
