@@ -59,7 +59,7 @@ def size_text(rows: int, cols: int) -> str:
 
 def check_led_count(frames: int, rows: int, cols: int) -> None:
     if frames * rows * cols > MAX_LEDS:
-        raise InputError(f"{frames} frames of {rows}x{cols} LEDs hold {frames * rows * cols:,} LED states, over "
+        raise InputError(f"{frames} frames of {size_text(rows, cols)} LEDs hold {frames * rows * cols:,} LED states, over "
                          f"the {MAX_LEDS:,} an animation may hold (at most {MAX_LEDS // (rows * cols):,} frames of "
                          f"this size)")
 
