@@ -18,8 +18,8 @@ import numpy as np
 from .errors import InputError
 
 __all__ = [
-    "OFF", "RED", "GREEN", "AMBER", "STATES", "MAX_FRAMES", "MAX_SIDE", "MIN_MS", "MAX_MS", "Animation",
-    "shift", "mirror", "rotate", "invert", "clear", "copy_region", "paste_region", "check_frame_array",
+    "OFF", "RED", "GREEN", "AMBER", "STATES", "MAX_FRAMES", "MAX_SIDE", "MAX_LEDS", "MIN_MS", "MAX_MS", "Animation",
+    "check_led_count", "shift", "mirror", "rotate", "invert", "clear", "copy_region", "paste_region", "check_frame_array",
     "swap_colours", "ANCHORS", "refit", "size_text",
 ]
 
@@ -27,6 +27,10 @@ OFF, RED, GREEN, AMBER = 0, 1, 2, 3
 STATES = (OFF, RED, GREEN, AMBER)
 MAX_FRAMES = 10_000
 MAX_SIDE = 256
+# LED states in one animation (frames x rows x cols): 256 frames of 256x256, 10,000 frames of 40x40. The two
+# limits above alone allowed 655 million, which no command could serve: the check of 100 frames of 256x256
+# already takes tens of seconds (tests/bench/bench_load.py --limit, figures in the README).
+MAX_LEDS = 1 << 24
 MIN_MS = 1
 MAX_MS = 3_600_000  # an hour per frame is already a still picture
 DEFAULT_MS = 100
@@ -41,6 +45,7 @@ def check_frame_array(frames: np.ndarray) -> np.ndarray:
         raise InputError(f"{n} frames: an animation holds 1 to {MAX_FRAMES} frames")
     if not (1 <= rows <= MAX_SIDE and 1 <= cols <= MAX_SIDE):
         raise InputError(f"{rows}x{cols} LEDs: at most {MAX_SIDE}x{MAX_SIDE}")
+    check_led_count(n, rows, cols)
     if frames.size and int(frames.max(initial=0)) > AMBER:
         raise InputError("LED states must be 0 (off), 1 (red), 2 (green) or 3 (amber)")
     return frames.astype(np.uint8, copy=False)
@@ -50,6 +55,13 @@ def size_text(rows: int, cols: int) -> str:
     """The one way a panel size is written: columns x rows, as the bundled profile names have it
     ("wide-16x8" is 16 columns across and 8 rows down), like a screen's width x height."""
     return f"{cols}x{rows}"
+
+
+def check_led_count(frames: int, rows: int, cols: int) -> None:
+    if frames * rows * cols > MAX_LEDS:
+        raise InputError(f"{frames} frames of {rows}x{cols} LEDs hold {frames * rows * cols:,} LED states, over "
+                         f"the {MAX_LEDS:,} an animation may hold (at most {MAX_LEDS // (rows * cols):,} frames of "
+                         f"this size)")
 
 
 def _check_ms(ms: int, where: str = "duration") -> int:
@@ -121,6 +133,7 @@ class Animation:
         at = self._index(at, end_ok=True)
         if self.n_frames >= MAX_FRAMES:
             raise InputError(f"an animation holds at most {MAX_FRAMES} frames")
+        check_led_count(self.n_frames + 1, self.rows, self.cols)
         if frame is None:
             frame = np.zeros((self.rows, self.cols), np.uint8)
         frame = np.asarray(frame, np.uint8)

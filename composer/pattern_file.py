@@ -28,7 +28,7 @@ import tomli_w
 from .atomic import atomic_write_text
 from .bundled import resolve_pattern_ref
 from .errors import InputError, did_you_mean, escape_text, shorten
-from .model import MAX_FRAMES, MAX_MS, MAX_SIDE, MIN_MS, Animation
+from .model import MAX_FRAMES, MAX_MS, MAX_SIDE, MIN_MS, Animation, check_led_count
 from .profile import Profile, load_profile
 from .textfile import find_key_line, line_of, parse_toml, read_text_file
 
@@ -195,6 +195,11 @@ def parse_pattern(text: str, path: str = "<pattern>") -> Animation:
             raise w.fail("must be a multi-line string", where=f"{label}.leds", line=w.frame_line(i, "leds"))
         durations.append(ms)
         blocks.append(table["leds"])
+    first = blocks[0].strip()
+    try:   # refused before any array is built: the limit is what keeps a huge file from filling memory
+        check_led_count(len(blocks), first.count("\n") + 1, max(len(first.split("\n", 1)[0]), 1))
+    except InputError as err:
+        raise w.fail(err.detail, where="frame") from None
     frames = _fast_frames(blocks)
     if frames is None:
         frames = _slow_frames(blocks, w)

@@ -9,14 +9,14 @@ from pathlib import Path
 from typing import Any
 
 from .errors import InputError, shorten
-from .model import MAX_FRAMES, MAX_SIDE
+from .model import MAX_FRAMES, MAX_LEDS
 
 __all__ = ["read_text_file", "parse_toml", "find_key_line", "find_where_line", "line_of", "MAX_FILE_BYTES", "shorten"]
 
-# The largest legal pattern must be readable: MAX_FRAMES frames of MAX_SIDE rows of MAX_SIDE LEDs, each row
-# ended by CRLF, plus a frame's own lines (about 40 bytes; 256 allowed) and 1 MiB for the header and notes.
-# Anything bigger is refused before it is read into memory.
-MAX_FILE_BYTES = MAX_FRAMES * (MAX_SIDE * (MAX_SIDE + 2) + 256) + 1024 * 1024
+# The largest legal pattern must be readable: MAX_LEDS LEDs of one character each, the worst case being one-LED
+# rows each ended by CRLF (3 bytes an LED), plus a frame's own lines (about 40 bytes; 256 allowed) and 1 MiB for
+# the header and notes. Anything bigger is refused before it is read into memory.
+MAX_FILE_BYTES = 3 * MAX_LEDS + MAX_FRAMES * 256 + 1024 * 1024
 
 
 def read_text_file(path: str | Path) -> str:

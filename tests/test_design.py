@@ -200,3 +200,19 @@ def test_when_no_resistor_can_it_says_what_binds():
     fix = resistor_fix(tiny, frames, [100])
     assert fix.needed and fix.ohm is None and fix.binding.startswith("supply")
     assert "no resistor fixes" in fix.text() and fix.binding in fix.text()
+
+
+@pytest.mark.parametrize("name", sorted(bundled_profiles()))
+def test_derived_profile_of_every_bundled_profile_reads_back_with_its_comments(name, tmp_path, capsys):
+    prof = load_profile(name)
+    out = tmp_path / f"{name}-quiet.toml"
+    assert main(["design", "--profile", name, "--target-ma", "3", "-o", str(out)]) == 0
+    capsys.readouterr()
+    derived = load_profile(out)
+    original = Path(bundled_profiles()[name]).read_text()
+    text = out.read_text()
+    assert all(line in text for line in original.splitlines() if line.lstrip().startswith("#"))
+    for part in prof.resistor.parts:
+        assert derived.resistor.parts[part].ohms != prof.resistor.parts[part].ohms
+        assert derived.resistor.parts[part].tolerance_pct == prof.resistor.parts[part].tolerance_pct
+    assert (derived.rows, derived.cols, derived.panel.common) == (prof.rows, prof.cols, prof.panel.common)

@@ -453,8 +453,10 @@ def test_cli_header_states_the_stress_corner_too(tmp_path):
     assert run_cli(["export", str(pat), "--c", str(out)]) == 0
     anim, profile = open_pattern(pat)
     stress = check_report(anim, profile, corner="stress")
-    assert f"At the stress corner (top supply, lowest forward voltage): worst row " \
-           f"{float(np.max(stress.worst_row_ma)):.1f} mA" in out.read_text()
+    text = out.read_text()
+    assert f"stream guard judge): worst row {float(np.max(stress.worst_row_ma)):.1f} mA" in text
+    # the header says which figures are typical and which is the verdict
+    assert "Typical figures (typ corner" in text and "Verdict at the stress corner" in text
 
 
 @pytest.mark.parametrize("layout", ["shift", "bitmap"])

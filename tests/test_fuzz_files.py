@@ -18,7 +18,7 @@ import sys
 import warnings
 from pathlib import Path
 
-from hypothesis import HealthCheck, given, settings
+from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
 
 from composer.cli import main
@@ -101,7 +101,7 @@ def snapshot(folder: Path) -> dict[str, bytes]:
     return {p.name: p.read_bytes() for p in folder.iterdir()}
 
 
-_SETTINGS = settings(max_examples=int(os.environ.get("ROWCAST_FUZZ_EXAMPLES", "150")), deadline=None,
+_SETTINGS = settings(max_examples=int(os.environ.get("ROWCAST_FUZZ_EXAMPLES", "1000")), deadline=None,
                      suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large,
                                             HealthCheck.function_scoped_fixture])
 
@@ -116,6 +116,7 @@ def test_mutated_patterns_exit_0_1_or_2_with_one_line_and_leave_the_file(tmp_pat
     before = snapshot(folder)
     args = ["check", str(path)] + (["--json"] if as_json else [])
     status, out, err = run_cli(args)
+    event(f"check exit {status}")            # --hypothesis-show-statistics: how many mutants got how far
     assert_clean(status, err, args)
     if status != 2 and as_json:
         assert "Infinity" not in out and "NaN" not in out
@@ -131,6 +132,7 @@ def test_mutated_profiles_exit_0_1_or_2_and_show_and_check_agree(tmp_path_factor
     path.write_bytes(data)
     before = snapshot(folder)
     shown, out, err = run_cli(["profile", "show", str(path), "--json"])
+    event(f"profile show exit {shown}")
     assert_clean(shown, err, ["profile", "show"])
     assert shown in (0, 2) and "Infinity" not in out and "NaN" not in out
     demo = "wide-march.rowcast.toml" if name.startswith("wide") else "kettle-ready.rowcast.toml"

@@ -254,6 +254,9 @@ def test_the_installed_wheel_runs_every_command_from_another_folder(dists, tmp_p
     try:
         first = sim.stdout.readline()
         assert first.startswith("simulated receiver for bench-8x8"), first + sim.stderr.read()
+        sim.stdout.readline()
+        hint = sim.stdout.readline()             # how to build for a real board: never into the installed package
+        assert f"BUILD={tmp_path / 'cache' / 'rowcast' / 'board'} " in hint, hint
         done = _run(env, here, rowcast, "stream", "kettle-ready", "--port", str(link), "--quiet")
     finally:
         sim.send_signal(signal.SIGINT)

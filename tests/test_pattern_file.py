@@ -181,15 +181,30 @@ def test_size_limits_refused(tmp_path):
 
 
 def test_the_largest_legal_pattern_is_under_the_file_size_limit():
-    # Issue 2's limits (10,000 frames of 256x256) must be readable back: the text of one more
-    # largest frame, written with CRLF line ends (accepted on reading), times the frame limit, fits.
-    from composer.model import MAX_FRAMES, MAX_MS, MAX_SIDE
+    # The largest legal patterns of every shape must be readable back: the text of one more largest frame,
+    # written with CRLF line ends (accepted on reading), times the most frames of that shape, fits.
+    from composer.model import MAX_FRAMES, MAX_LEDS, MAX_MS, MAX_SIDE
     from composer.textfile import MAX_FILE_BYTES
-    full = np.full((2, MAX_SIDE, MAX_SIDE), 3, np.uint8)
-    one = dump_pattern(Animation(full[:1], [MAX_MS], name="x", profile="bench-8x8"))
-    two = dump_pattern(Animation(full, [MAX_MS] * 2, name="x", profile="bench-8x8"))
-    per_frame = len(two.replace("\n", "\r\n")) - len(one.replace("\n", "\r\n"))
-    assert len(one) + (MAX_FRAMES - 1) * per_frame <= MAX_FILE_BYTES
+    for rows, cols in ((MAX_SIDE, MAX_SIDE), (MAX_SIDE, 1), (1, MAX_SIDE), (40, 40), (1, 1)):
+        full = np.full((2, rows, cols), 3, np.uint8)
+        one = dump_pattern(Animation(full[:1], [MAX_MS], name="x", profile="bench-8x8"))
+        two = dump_pattern(Animation(full, [MAX_MS] * 2, name="x", profile="bench-8x8"))
+        per_frame = len(two.replace("\n", "\r\n")) - len(one.replace("\n", "\r\n"))
+        most = min(MAX_FRAMES, MAX_LEDS // (rows * cols))
+        assert len(one) + (most - 1) * per_frame <= MAX_FILE_BYTES, (rows, cols)
+
+
+def test_more_led_states_than_the_limit_are_refused_before_building_frames(tmp_path):
+    from composer.model import MAX_LEDS
+    frames = MAX_LEDS // (64 * 64) + 1
+    block = "\n".join(["." * 64] * 64)
+    path = tmp_path / "big.rowcast.toml"
+    path.write_text('format = "rowcast-pattern/1"\nname = "x"\nprofile = "bench-8x8"\n'
+                    + f'[[frame]]\nms = 1\nleds = """\n{block}\n"""\n' * frames)
+    with pytest.raises(InputError, match=f"big.rowcast.toml: frame: {frames} frames of 64x64"):
+        load_pattern(path)
+    with pytest.raises(InputError, match="at most 4,096 frames of this size"):
+        Animation(np.zeros((frames, 64, 64), np.uint8), np.ones(frames, int))
 
 
 def test_profile_mismatch_is_reported(tmp_path):

@@ -156,3 +156,43 @@ def test_row_interrupt_cycles_follow_the_stated_formula(tmp_path):
         mean = tick.mean + 8
         stated = ROW_IRQ_BASE_CYCLES + ROW_IRQ_CYCLES_PER_BYTE * prof.n_registers
         assert tick.count > 100 and abs(mean - stated) <= 3, (name, mean, stated)
+
+
+def test_tiled_sign_end_to_end_in_the_simulator(tmp_path):
+    """The real firmware in simavr with ten simulated 74HC595-class parts: the ticket-counter demo streamed
+    through the real Link at the profile's 48 us rows. The panel is rebuilt from the recorded serial bits and
+    latch pulses by the datasheet chain model of tests/test_firmware_matrix.py (not through composer.wiring):
+    every whole scan while the outputs are on is an authored frame, in the order sent, rows 0..15 in order,
+    no latch with the outputs on. The receiver states its capacity (16 rows x 10 bytes) and refuses a slot one
+    byte longer at CONFIGURE."""
+    for tool in ("make", "avr-gcc", "avr-objcopy", "avr-size", "gcc", "simavr"):
+        need_tool(tool)
+    import serial
+    from tests.test_firmware_matrix import check_panel
+    from tests.test_firmware_sim import raw_exchange
+    from transport import Link, simboard
+    from transport import protocol as P
+    from transport.simboard import SimBoard, read_records
+    prof = load_profile("tiled-32x16")
+    anim, _ = open_pattern(TICKETS)
+    sent = [f for i, f in enumerate(anim.frames) if i == 0 or not np.array_equal(f, anim.frames[i - 1])][:6]
+    f_cpu = simboard.F_CPU
+    period = int(round(prof.scan.row_period_us * f_cpu / 1e6))
+    build = simboard.build(tmp_path / "build")
+    recs_path = tmp_path / "records.txt"
+    with SimBoard.start(prof, build_dir=build, records=recs_path, max_cycles=25 * f_cpu, spi_bits=True) as board:
+        with Link(board.port, prof, window=1, handshake_timeout=2.0, reconnect=False) as link:
+            assert (link.identity.max_rows, link.identity.max_bytes_per_row) == (16, 10)
+            board.mark("frames")
+            for f in sent:
+                assert link.send_frame(f).acked
+                board.wait_cycles(3 * prof.rows * period)
+            board.mark("done")
+        with serial.serial_for_url(board.port, baudrate=115200, timeout=0.05) as port:
+            too_long = P.Configure(900, 16, 11, 48, 4000, 32, bytes(11), bytes(11))
+            got = raw_exchange(port, too_long)
+            assert got and got[0].reason == P.Reason.BAD_CONFIG and got[0].detail == 1, got
+    recs = read_records(recs_path)
+    check_panel(recs, prof, sent, period)
+    cyc = recs.latch_cycles[(recs.latch_cycles >= recs.marks["frames"]) & (recs.latch_cycles < recs.marks["done"])]
+    assert np.median(np.diff(cyc)) == period                 # 48 us rows: 768 cycles at 16 MHz

@@ -67,7 +67,7 @@ def run(args: argparse.Namespace) -> int:
             for frame, ma in zip(doc["frames"], led):
                 frame["led_ma"] = ma.tolist()
         # no indent: json's C encoder then writes a 10,000-frame report about ten times faster
-        sys.stdout.write(json.dumps(doc, allow_nan=False))
+        sys.stdout.write(json.dumps(doc, allow_nan=False, check_circular=False))
         sys.stdout.write("\n")
     else:
         sys.stdout.write(render_text(report, str(args.pattern), ranges, every_place=args.all, profile=profile,

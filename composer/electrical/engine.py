@@ -303,9 +303,12 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
                 violations.append(Violation(None, rule, "whole panel", value, 3.0, "flashes/s"))
     if durations is None:
         durations = np.ones(f_count, dtype=np.int64)
-    util = np.stack(list(rule_util.values()))                   # (rules, F)
-    binding = util.argmax(axis=0)
-    utilisation = util[binding, fa]
+    if whole:
+        util = np.stack(list(rule_util.values()))               # (rules, F)
+        binding = util.argmax(axis=0)
+        utilisation = util[binding, fa]
+    else:                                                       # the guard reads only the violations
+        binding, utilisation = None, None
     led_min = np.where(led > 0, led, np.inf).min(axis=2).T
     led_min = np.where(np.isfinite(led_min), led_min, np.nan)
     led_max_nan = np.where(led_max > 0, led_max, np.nan)

@@ -133,7 +133,8 @@ class Report:
                                                           self.supply_peak_ma, self.supply_avg_ma))
         row_ma, led_min, led_max = _rl(self.row_ma), _rl(self.led_ma_min), _rl(self.led_ma_max)
         tj, res_w, unif = _rl(self.driver_tj_c, 2), _rl(self.resistor_w_max, 6), _rl(self.led_uniformity)
-        util = {rule: _rl(u) for rule, u in self.rule_utilisation.items()}
+        rules = list(self.rule_utilisation)
+        util = list(zip(*(_rl(u) for u in self.rule_utilisation.values()))) if rules else [()] * self.n_frames
         binding = [self.rules[k] for k in self.binding_index.tolist()]
         ms, worst_row = self.durations_ms.tolist(), self.worst_row.tolist()
         stuck, ok = self.stuck_scan.tolist(), self.frame_ok.tolist()
@@ -141,8 +142,8 @@ class Report:
         for i in range(self.n_frames):
             frames.append({
                 "index": i,
-                "ms": int(ms[i]),
-                "worst_row": int(worst_row[i]),
+                "ms": ms[i],
+                "worst_row": worst_row[i],
                 "worst_row_ma": worst_ma[i],
                 "row_ma": row_ma[i],
                 "pin_ma_max": pin[i],
@@ -153,10 +154,10 @@ class Report:
                 "led_uniformity": {"red": unif[i][0], "green": unif[i][1]},
                 "driver_tj_c": tj[i],
                 "resistor_w_max": res_w[i],
-                "stuck_scan_over": bool(stuck[i]),
-                "utilisation": {rule: u[i] for rule, u in util.items()},
+                "stuck_scan_over": stuck[i],
+                "utilisation": dict(zip(rules, util[i])),
                 "binding": binding[i],
-                "ok": bool(ok[i]),
+                "ok": ok[i],
                 "violations": by_frame.get(i, []),
             })
         t = self.timing

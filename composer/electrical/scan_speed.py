@@ -22,10 +22,11 @@ __all__ = ["ScanSpeed", "scan_speed", "row_irq_cycles", "F_CPU_HZ", "ROW_IRQ_BAS
 
 F_CPU_HZ = 16_000_000          # firmware_stub/Makefile F_CPU: an ATmega328P-class board at 16 MHz
 # Mean cycles of one row interrupt for B bytes a slot: BASE + PER_BYTE * B (interrupt response and RETI
-# included; the once-a-scan frame swap spread over the scan). Measured in simavr: 166 for 3 bytes,
-# 210 for 5, 320 for 10 (8 cycles more since the end of blanking is checked against the counter again).
-ROW_IRQ_BASE_CYCLES = 100
-ROW_IRQ_CYCLES_PER_BYTE = 22
+# included; the once-a-scan frame swap spread over the scan). Measured in simavr: 162 for 3 bytes,
+# 198 for 5, 287 for 10: the shift writes a byte every 18 cycles against the SPI's 16 (board_impl.h);
+# the fixed part is the register saves, blanking, latch, end-of-blanking timer and slot bookkeeping.
+ROW_IRQ_BASE_CYCLES = 108
+ROW_IRQ_CYCLES_PER_BYTE = 18
 SCAN_CPU_SHARE = 0.30          # the scan's share of the core this project holds the firmware to
 MIN_ROW_PERIOD_US = 20         # firmware_stub/core/config.h RC_MIN_ROW_PERIOD_US: CONFIGURE refuses less
 # IEEE Std 1789-2015 for 100 % modulation (see timing.flicker_region; from memory): low risk above

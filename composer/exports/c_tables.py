@@ -159,7 +159,10 @@ def c_header(anim: Animation, profile: Profile, report: Any, *, layout: str = "s
     add(f" * Profile: {_comment_safe(profile.name)} - {_comment_safe(profile.description)}")
     add(f" * Panel: common {profile.panel.common}, {profile.n_registers} shift registers in the chain.")
     add(" *")
-    add(f" * Electrical check on this profile ({_comment_safe(str(getattr(report, 'corner', 'typ')))} corner):")
+    corner_now = _comment_safe(str(getattr(report, 'corner', 'typ')))
+    add(f" * Typical figures ({corner_now} corner: nominal supply, forward voltage and resistors), for brightness")
+    add(" * and supply sizing" + ("; the verdict that matters is the stress corner's, below:" if stress_report
+                                 is not None else ":"))
     add(f" *   worst row current   {s.worst_row_ma:8.1f} mA")
     add(f" *   supply peak         {s.supply_peak_ma:8.1f} mA (budget {profile.supply.budget_ma:g} mA)")
     add(f" *   supply average      {s.supply_avg_ma:8.1f} mA (weighted by frame durations)")
@@ -172,14 +175,14 @@ def c_header(anim: Animation, profile: Profile, report: Any, *, layout: str = "s
         for text in s.first_violations:
             add(f" *     - {text}")
     else:
-        add(" *   every frame is within the profile's limits")
+        add(f" *   at {corner_now} values every frame is within the profile's limits")
     if stress_report is not None:
         st = _summary(stress_report)
         verdict = (f"{len(st.frames_over)} frame(s) over a limit" if st.frames_over else
                    "over a limit as a whole" if st.first_violations else "within every limit")
         corner = _comment_safe(str(getattr(stress_report, "corner", "stress")))
-        add(f" * At the {corner} corner (top supply, lowest forward voltage): worst row {st.worst_row_ma:.1f} mA, "
-            f"{verdict}.")
+        add(f" * Verdict at the {corner} corner (top supply, lowest forward voltage; what rowcast check and the")
+        add(f" * stream guard judge): worst row {st.worst_row_ma:.1f} mA, {verdict}.")
     add(" * The check is only as good as the profile: confirm currents against your parts' datasheets,")
     add(" * and keep the row scan running - a stalled scan leaves one row lit at the full peak current.")
     stuck = np.flatnonzero(np.asarray(getattr(report, "stuck_scan", np.zeros(0)), bool))

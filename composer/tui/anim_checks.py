@@ -27,9 +27,7 @@ def _scan_notes(profile) -> list[str]:
     """The fastest row period the receiver firmware sustains, beside this profile's (rowcast check)."""
     from ..electrical import scan_speed
     s = scan_speed(profile)
-    notes = [f"fastest scan the receiver sustains: {s.fastest_row_period_us:.1f} us rows, "
-             f"{s.fastest_refresh_hz:.0f} Hz ({s.fastest_region}); low risk needs rows under "
-             f"{s.low_risk_below_us:.1f} us"]
+    notes = [f"receiver keeps up from {s.fastest_row_period_us:.1f} us rows ({s.fastest_refresh_hz:.0f} Hz)"]
     if not s.sustained:
         notes.append(f"! {s.row_period_us:g} us rows are faster than the receiver sustains "
                      f"(scan {100 * s.cpu_share:.0f} % of its core)")

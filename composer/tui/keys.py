@@ -16,7 +16,7 @@ GROUPS: list[tuple[str, list[tuple[str, str, str, str | None]]]] = [
         ("down,j", "move(1,0)", "cursor down", None),
         ("left,h", "move(0,-1)", "cursor left", None),
         ("right,l", "move(0,1)", "cursor right", None),
-        ("n", "cells", "canvas cells: normal, compact or overview (the whole panel)", None),
+        ("n", "cells", "canvas cells: normal, compact or overview", None),
     ]),
     ("Draw", [
         ("1", "brush(1)", "brush red", None),

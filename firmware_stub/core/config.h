@@ -10,15 +10,16 @@
 #endif
 /* 10 bytes a row slot: two row registers and eight column registers, the bundled 32 x 16 tiled sign
  * (patterns/profiles/tiled-32x16.toml). The two frame buffers and the message buffer then take 487 of
- * the 597 bytes of static RAM (avr-size), leaving about 1.4 KB of the 2 KB for the stack (ATmega328P
+ * the 604 bytes of static RAM (avr-size), leaving about 1.4 KB of the 2 KB for the stack (ATmega328P
  * datasheet: 2 KB SRAM, from memory). */
 #ifndef RC_MAX_BYTES_PER_ROW
 #define RC_MAX_BYTES_PER_ROW 10u
 #endif
 
-/* Shortest row period the scan interrupt is given: at 16 MHz the row interrupt takes well under
- * 200 cycles (see tests/bench/bench_firmware.py), so 20 us (320 cycles) still leaves the main loop
- * time to decode the serial stream. */
+/* Shortest row period the scan interrupt is given: at 16 MHz the row interrupt takes 108 + 18 cycles
+ * a byte of the slot (162 for 3 bytes, 288 for 10; tests/bench/bench_firmware.py), so 20 us (320 cycles)
+ * still leaves the main loop time to decode the serial stream for short chains. Long chains need longer
+ * rows: rowcast check names the shortest row that keeps the scan within 30 % of the core. */
 #ifndef RC_MIN_ROW_PERIOD_US
 #define RC_MIN_ROW_PERIOD_US 20u
 #endif

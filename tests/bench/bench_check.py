@@ -5,6 +5,8 @@ Goals (issue 3):
   the same run (summing the lit masks of the same array), and at least 100x faster than a
   straightforward per-LED Python loop (measured on a subset and scaled).
 - ``guard`` on one 8 x 8 frame within 200 us; on one 64 x 32 frame within 1 ms.
+- (issue 14) 10,000 frames of the bundled tiled-32x16 sign (16 rows x 32 columns, two row drivers):
+  ``analyse`` within the same 5x of its own numpy floor.
 
 Run: ``python tests/bench/bench_check.py``. Exit status 1 if a goal is missed.
 """
@@ -110,6 +112,16 @@ def main() -> int:
           f"{r_floor:.2f} (goal <= 5); {len(report.violations)} violations found")
     print(f"per-LED Python loop (scaled from {subset} frames): {t_loop:.1f} s; speed-up {r_loop:.0f}x (goal >= 100)")
     ok &= r_floor <= 5.0 and r_loop >= 100.0
+
+    tiled = load_profile("tiled-32x16")
+    lit = rng.random((n_frames, tiled.rows, tiled.cols)) < 0.06
+    big = (lit * rng.integers(1, 4, lit.shape)).astype(np.uint8)
+    analyse(big[:10], durations[:10], tiled, corner="stress")
+    t_floor = best_of(lambda: ((big & 1).sum(axis=-1), (big >> 1).sum(axis=-1)))
+    t_check = best_of(lambda: analyse(big, durations, tiled, corner="stress"))
+    print(f"check 10000 x tiled-32x16 (16x32): {t_check * 1e3:.1f} ms; numpy floor {t_floor * 1e3:.1f} ms; ratio "
+          f"{t_check / t_floor:.2f} (goal <= 5)")
+    ok &= t_check / t_floor <= 5.0
 
     for name, p, goal in (("8x8", load_profile("bench-8x8"), 200.0), ("64x32", panel_profile(32, 64), 1000.0)):
         n = 400

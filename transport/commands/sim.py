@@ -65,7 +65,9 @@ def run(args: argparse.Namespace) -> int:
     port = board.link or board.port
     print(f"simulated receiver for {profile.name} ({n_regs} registers, ATmega328P-class core at 16 MHz) on {port}")
     print(f"  rowcast stream PATTERN --port {port}")
-    print(f"  a real board runs the same firmware: make -C {simboard.FIRMWARE_DIR} && make -C {simboard.FIRMWARE_DIR} "
+    # BUILD= keeps make's output out of the sources, which may be the installed package
+    make = f"make -C {simboard.FIRMWARE_DIR} BUILD={simcache.cache_root() / 'board'}"
+    print(f"  a real board runs the same firmware: {make} && {make} "
           f"flash PORT=... (its README, 'Building for a real board'); the chain's bit order ({profile.chain.bit_order}) "
           "is sent in CONFIGURE when rowcast connects, so one build serves every wiring")
     sys.stdout.flush()

@@ -58,26 +58,44 @@ static inline void board_spi_order(uint8_t lsb_first)
 
 static inline void board_spi_put(uint8_t b)
 {
+    (void)SPSR;                     /* clear a SPIF the row tick's timed shift left set (data sheet: */
+    (void)SPDR;                     /* read SPSR with SPIF set, then access SPDR) */
     SPDR = b;
     while (!(SPSR & _BV(SPIF)))
         ;
 }
 
-/* The row tick's shift: the next byte is fetched while the previous one shifts out, and the last
- * one is left shifting (16 cycles; the next latch is a row period away). SPIF is cleared the data
- * sheet's way first: read SPSR with SPIF set (left by the previous row's last byte), then SPDR. */
+/* The row tick's shift at a fixed RC_SPI_BYTE_CYCLES a byte, with no polling: at fosc/2 a byte
+ * leaves the SPI in 16 cycles (ATmega328P data sheet, SPI with SPI2X: SCK = fosc/2, 8 clocks a
+ * byte), so writing SPDR 18 cycles after the previous write never collides, and the 2 spare cycles
+ * cover any synchronisation. Polling SPIF cost 22 cycles a byte (the wait loop's granularity and the
+ * branch back). The last byte is left shifting (the next latch is a row period away); an interrupt
+ * inside the loop only lengthens one gap. simavr's SPI model counts a write during a transfer
+ * as a collision (tests/test_firmware_sim.py checks there are none). */
+#define RC_SPI_BYTE_CYCLES 18
 static inline void board_spi_put_slot(const uint8_t *src, uint8_t n)
 {
-    (void)SPSR;
-    (void)SPDR;
-    uint8_t b = *src++;
-    SPDR = b;
-    while (--n) {
-        b = *src++;
-        while (!(SPSR & _BV(SPIF)))
-            ;
-        SPDR = b;
-    }
+    uint8_t b;
+    __asm__ __volatile__(
+        "ld %[b], %a[p]+\n\t"
+        "out %[spdr], %[b]\n\t"      /* the first byte: 1 + 1 + 1 + 1 + 2 + 12 = 18 to the next out */
+        "dec %[n]\n\t"
+        "breq 2f\n\t"
+        "nop\n\t"
+        "1: ld %[b], %a[p]+\n\t"     /* 2 */
+        "rjmp .+0\n\t"               /* 2 x 6: the padding */
+        "rjmp .+0\n\t"
+        "rjmp .+0\n\t"
+        "rjmp .+0\n\t"
+        "rjmp .+0\n\t"
+        "rjmp .+0\n\t"
+        "out %[spdr], %[b]\n\t"      /* 1 */
+        "dec %[n]\n\t"               /* 1 */
+        "brne 1b\n\t"                /* 2 taken: 18 a byte */
+        "2:\n\t"
+        : [b] "=&r"(b), [p] "+e"(src), [n] "+r"(n)
+        : [spdr] "I"(_SFR_IO_ADDR(SPDR))
+        : "memory");
 }
 
 static inline void board_latch(void)
