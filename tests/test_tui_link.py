@@ -196,3 +196,28 @@ async def test_url_field_keys(tmp_path):
         await pilot.press("enter")                           # another URL while connected: switch
         ed, panel, rx2 = await connected(pilot, app, second)
         assert panel.url == second and panel.link is not None
+
+
+@async_test
+async def test_a_profile_file_prefills_a_simrx_url_that_connects(tmp_path):
+    """A profile that is not bundled: the URL box starts with simrx://PATH (not simrx://NAME, which would not
+    open), connecting with it works, and the preview is the receiver's read-back."""
+    from pathlib import Path
+
+    from conftest import PROFILES
+    from textual.widgets import Input
+
+    folder = tmp_path / "my panels"
+    folder.mkdir()
+    text = (Path(PROFILES) / "bench-8x8.toml").read_text().replace('name = "bench-8x8"', 'name = "my-panel"')
+    (folder / "my-panel.toml").write_text(text)
+    pattern = make_pattern(tmp_path, profile=str(folder / "my-panel.toml"))
+    app = app_for(pattern)
+    async with app.run_test(size=(120, 40)) as pilot:
+        ed = editor(app)
+        panel = ed.query_one("#link-pane")
+        url = ed.query_one("#port-url", Input).value
+        assert url.startswith("simrx:///") and url.endswith("my%20panels/my-panel.toml"), url
+        panel.connect()
+        assert await until(pilot, lambda: panel.link is not None and panel.link.connected)
+        assert await until(pilot, lambda: "read back from the receiver" in screen_text(app))

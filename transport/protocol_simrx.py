@@ -41,7 +41,8 @@ _NAMED_LOCK = threading.Lock()
 
 def url_for(profile) -> str:
     """The simrx:// URL that opens a receiver for ``profile``: its bundled name when the profile is the
-    bundled one of that name, else the path it was read from (absolute, percent-encoded)."""
+    bundled one of that name, else the path it was read from (relative when it is inside the working
+    folder, else absolute; percent-encoded)."""
     from pathlib import Path
 
     from composer.profile import bundled_profiles, load_profile
@@ -55,7 +56,10 @@ def url_for(profile) -> str:
     source = Path(profile.source)
     if not source.is_file():
         return f"simrx://{profile.name}"
-    return "simrx://" + urllib.parse.quote(str(source.resolve()))
+    try:                                 # inside the working folder: the shorter relative form
+        return "simrx://" + urllib.parse.quote(str(source.resolve().relative_to(Path.cwd().resolve())))
+    except ValueError:
+        return "simrx://" + urllib.parse.quote(str(source.resolve()))
 
 
 def receiver_named(name: str) -> SimulatedReceiver | None:

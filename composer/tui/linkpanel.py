@@ -101,7 +101,9 @@ class LinkPanel(Vertical):
             yield Button("play", id="link-play", compact=True)
         yield Static("disconnected", id="link-status", markup=False)
         yield Label("the device shows:", classes="pane-title")
-        yield LedView(self.profile.rows, self.profile.cols, id="device")
+        device = LedView(self.profile.rows, self.profile.cols, id="device")
+        device.display = False                  # nothing read back yet: no grid that would read as a dark panel
+        yield device
         yield Static("", id="device-note", markup=False)
 
     def on_mount(self) -> None:
@@ -110,7 +112,6 @@ class LinkPanel(Vertical):
         self._list_ports()
         if self.auto_connect:
             self.call_after_refresh(self.connect)
-        self.query_one("#device", LedView).display = False     # nothing read back yet
 
     # -- port list ----------------------------------------------------------------------------
     @work(thread=True, exclusive=True, group="ports", exit_on_error=False)

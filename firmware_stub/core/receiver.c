@@ -234,8 +234,15 @@ static void show(void)
 /* Read-back: CRC-16 of a buffer's slot bytes as they are in memory now. */
 static uint16_t buffer_crc(const uint8_t *buf) { return rc_crc16(buf, rc_scan.size); }
 
-/* The buffer the panel shows once any SHOW waiting for the end of the scan has been served. */
-static const uint8_t *showing(void) { return rc_scan.swap_req ? rc_scan.back : rc_scan.front; }
+/* The buffer the panel shows once any SHOW waiting for the end of the scan has been served. Read with
+ * the row tick kept out: it may swap the two between the flag and the pointer. */
+static const uint8_t *showing(void)
+{
+    board_critical_enter();
+    const uint8_t *buf = rc_scan.swap_req ? rc_scan.back : rc_scan.front;
+    board_critical_exit();
+    return buf;
+}
 
 static rc_answer answer_ack(uint16_t crc)
 {
@@ -265,13 +272,16 @@ static rc_answer frame(const uint8_t *b, uint16_t n)
      * or this frame under an earlier SHOW. */
     while (rc_scan.show_req)
         board_wait_for_tick();
-    memcpy(rc_scan.back, b + 1, size);
+    /* The buffer written here: once shown, the row tick swaps it to the front at the end of a scan,
+     * which may happen before the read-back below, so the read-back follows the buffer, not the name. */
+    uint8_t *dst = rc_scan.back;
+    memcpy(dst, b + 1, size);
     board_critical_enter();
     rc_scan.swap_req = 1;
     board_critical_exit();
     if (flags & RC_SHOW_AFTER)
         show();
-    return answer_ack(buffer_crc(rc_scan.back));
+    return answer_ack(buffer_crc(dst));
 }
 
 /* DISPLAY (answer to READBACK): state, then the slot bytes the scan shifts out now (none before a
