@@ -92,13 +92,29 @@ def test_row_currents_agree_with_ngspice(tmp_path, name, drop, n_lit):
         assert got[nl.row_vector] == pytest.approx(sum(got[b[0]] for b in nl.branches), rel=1e-6)
 
 
-def test_rowcast_spice_command_writes_a_netlist_ngspice_runs(tmp_path, capsys):
+def test_rowcast_spice_command_writes_a_netlist_ngspice_runs(tmp_path, capsys, monkeypatch):
+    """The command the message prints, run from another folder, writes its results beside the netlist
+    (named after it), never into the folder the user happened to be in."""
+    import shlex
+    import subprocess
+    need_tool("ngspice")
     pattern = Path(__file__).resolve().parent.parent / "patterns" / "overload-sweep.rowcast.toml"
-    out = tmp_path / "row.cir"
+    out = tmp_path / "work" / "sweep-f2.cir"
+    out.parent.mkdir()
+    elsewhere = tmp_path / "elsewhere"
+    elsewhere.mkdir()
+    monkeypatch.chdir(elsewhere)
     assert main(["spice", str(pattern), "--frame", "2", "-o", str(out)]) == 0
+    said = capsys.readouterr().err
+    command = said.split("run '")[1].split("' (it writes")[0]
+    assert command == f"cd {shlex.quote(str(out.parent))} && ngspice -b sweep-f2.cir"
+    subprocess.run(command, shell=True, cwd=elsewhere, capture_output=True, timeout=60, check=True)
+    assert list(elsewhere.iterdir()) == []
     text = out.read_text()
-    vectors = text.split("wrdata row.out ")[1].splitlines()[0].split()
-    got = run_ngspice(text, "row.out", vectors, tmp_path / "run")
+    vectors = text.split("wrdata sweep-f2.out ")[1].splitlines()[0].split()
+    table = out.parent / "sweep-f2.out"
+    assert table.exists()
+    got = run_ngspice(text, "sweep-f2.out", vectors, tmp_path / "run")
     from composer.pattern_file import open_pattern
     anim, prof = open_pattern(pattern)
     rep = analyse(anim.frames[2:3], anim.durations_ms[2:3], prof)

@@ -2,7 +2,9 @@
 from __future__ import annotations
 
 import argparse
+import shlex
 import sys
+from pathlib import Path
 
 from ..electrical import CORNERS, analyse
 from ..electrical.spice import row_netlist
@@ -34,11 +36,16 @@ def run(args: argparse.Namespace) -> int:
     elif not 0 <= row < profile.rows:
         raise InputError(f"--row {row} is outside 0..{profile.rows - 1}")
     title = f"rowcast: {args.pattern} frame {args.frame} row {row}"
-    netlist = row_netlist(profile, frame, row, corner=args.corner, title=title)
     if args.output == "-":
-        sys.stdout.write(netlist.text)
-    else:
-        write_checked_text(args.output, netlist.text, keep_backup=False)   # read back before "wrote"
-        sys.stderr.write(f"wrote {args.output}: {len(netlist.branches)} lit LED branch(es); run "
-                         f"'ngspice -b {args.output}'\n")
+        sys.stdout.write(row_netlist(profile, frame, row, corner=args.corner, title=title).text)
+        return EXIT_OK
+    # ngspice writes the results file in the folder it runs in: name it after the netlist and say to run it
+    # there, so nothing lands in whatever folder the user happened to be in
+    out = Path(args.output)
+    netlist = row_netlist(profile, frame, row, corner=args.corner, title=title,
+                          data_file=out.with_suffix(".out").name)
+    write_checked_text(args.output, netlist.text, keep_backup=False)   # read back before "wrote"
+    folder = shlex.quote(str(out.parent))
+    sys.stderr.write(f"wrote {args.output}: {len(netlist.branches)} lit LED branch(es); run "
+                     f"'cd {folder} && ngspice -b {shlex.quote(out.name)}' (it writes {netlist.data_file} there)\n")
     return EXIT_OK
