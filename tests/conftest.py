@@ -46,6 +46,13 @@ def need(condition: bool, message: str) -> None:
     pytest.skip(message)
 
 
+def need_simulator() -> None:
+    """The firmware build and the simulator harness: avr-gcc, the host gcc, simavr and its headers."""
+    for tool in ("make", "avr-gcc", "avr-objcopy", "avr-size", "gcc", "simavr"):
+        need_tool(tool)
+    need(Path("/usr/include/simavr/sim_avr.h").exists(), "libsimavr-dev (simavr headers) is not installed")
+
+
 @pytest.fixture
 def bench_profile():
     from composer.profile import load_profile

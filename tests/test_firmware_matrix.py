@@ -31,7 +31,7 @@ import pytest
 import tomli_w
 
 from composer.profile import bundled_profiles, load_profile
-from tests.conftest import need, need_tool
+from tests.conftest import need_simulator
 from transport import Link
 from transport import simboard
 from transport.receiver import MIN_LIGHT_NS
@@ -45,10 +45,7 @@ PROFILE_DIR = Path(__file__).resolve().parent.parent / "patterns" / "profiles"
 
 @pytest.fixture(scope="module")
 def builds(tmp_path_factory):
-    for tool in ("make", "avr-gcc", "avr-objcopy", "avr-size", "gcc"):
-        need_tool(tool)
-    need_tool("simavr")
-    need(Path("/usr/include/simavr/sim_avr.h").exists(), "libsimavr-dev (simavr headers) is not installed")
+    need_simulator()
     return simboard.build(tmp_path_factory.mktemp("fw-matrix"))
 
 

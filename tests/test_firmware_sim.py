@@ -10,7 +10,6 @@ watchdog period (16 ms typical at 5 V) is from the ATmega328P datasheet's watchd
 from __future__ import annotations
 
 import time
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -19,7 +18,7 @@ import serial
 from composer.electrical import firmware_lit_limit
 from composer.profile import load_profile
 from composer.wiring import decode_shift_bytes, guard_masks, shift_bytes
-from tests.conftest import need, need_tool
+from tests.conftest import need_simulator
 from transport import Link
 from transport import protocol as P
 from transport import simboard
@@ -32,10 +31,7 @@ SIM_BOUND = 25 * F                          # every run stops by 25 s of simulat
 
 @pytest.fixture(scope="module")
 def build_dir(tmp_path_factory):
-    for tool in ("make", "avr-gcc", "avr-objcopy", "avr-size", "gcc"):
-        need_tool(tool)
-    need_tool("simavr")
-    need(Path("/usr/include/simavr/sim_avr.h").exists(), "libsimavr-dev (simavr headers) is not installed")
+    need_simulator()
     return simboard.build(tmp_path_factory.mktemp("fw-sim"))
 
 

@@ -23,7 +23,7 @@ from composer.electrical.spice import row_netlist
 from composer.electrical.timing import scan_timing
 from composer.pattern_file import open_pattern
 from composer.profile import load_profile
-from tests.conftest import need_tool
+from tests.conftest import need_simulator, need_tool
 
 ROOT = Path(__file__).resolve().parent.parent
 TICKETS = ROOT / "patterns" / "ticket-counter.rowcast.toml"
@@ -134,8 +134,7 @@ def test_row_interrupt_cycles_follow_the_stated_formula(tmp_path):
     avr-gcc build, run in simavr, for 3, 5 and 10 bytes a slot. simavr's hook sees a handler from its
     vector jump to its RETI; the 4-cycle interrupt response and the 4-cycle RETI (ATmega328P datasheet,
     "Interrupt Response Time" and instruction set summary, from memory) are added."""
-    for tool in ("make", "avr-gcc", "avr-objcopy", "avr-size", "gcc", "simavr"):
-        need_tool(tool)
+    need_simulator()
     from transport import Link, simboard
     from transport.simboard import SimBoard, read_records
     build = simboard.build(tmp_path / "build")
@@ -165,8 +164,7 @@ def test_tiled_sign_end_to_end_in_the_simulator(tmp_path):
     every whole scan while the outputs are on is an authored frame, in the order sent, rows 0..15 in order,
     no latch with the outputs on. The receiver states its capacity (16 rows x 10 bytes) and refuses a slot one
     byte longer at CONFIGURE."""
-    for tool in ("make", "avr-gcc", "avr-objcopy", "avr-size", "gcc", "simavr"):
-        need_tool(tool)
+    need_simulator()
     import serial
     from tests.test_firmware_matrix import check_panel
     from tests.test_firmware_sim import raw_exchange
