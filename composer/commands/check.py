@@ -54,7 +54,7 @@ def run(args: argparse.Namespace) -> int:
                                                                     corner=args.corner))
     ranges = corner_ranges(anim, profile, report)
     allow = allowance(profile)
-    fix = resistor_fix(profile, anim.frames, anim.durations_ms, scope="the pattern")
+    fix = resistor_fix(profile, anim.frames, anim.durations_ms, scope="the pattern", known=report)
     if args.json:
         doc = report.to_json()
         doc["summary"]["pattern"] = str(args.pattern)
