@@ -103,8 +103,10 @@ def check_profile(profile: Profile) -> None:
         _prep(profile, corner)
 
 
-def analyse(frames, durations_ms, profile: Profile, *, corner: str = "typ") -> Report:
-    """Analyse ``(F, rows, cols)`` LED states shown for ``durations_ms`` (one per frame)."""
+def analyse(frames, durations_ms, profile: Profile, *, corner: str = "typ", with_flash: bool = True) -> Report:
+    """Analyse ``(F, rows, cols)`` LED states shown for ``durations_ms`` (one per frame). ``with_flash=False``
+    leaves out the flash check (``report.flash`` is None): callers that only vary the circuit, like the
+    resistor search, do not need it, since flashing depends on the frames and their timing alone."""
     frames = _checked(frames)
     if frames.shape[1:] != (profile.rows, profile.cols):
         raise InputError(f"frames are {frames.shape[1]}x{frames.shape[2]} LEDs but profile {profile.name} is "
@@ -112,7 +114,7 @@ def analyse(frames, durations_ms, profile: Profile, *, corner: str = "typ") -> R
     durations = np.asarray(durations_ms, dtype=np.int64).reshape(-1)
     if durations.shape[0] != frames.shape[0]:
         raise InputError(f"{frames.shape[0]} frames but {durations.shape[0]} durations")
-    return _evaluate(frames, durations, profile, corner, whole=True)
+    return _evaluate(frames, durations, profile, corner, whole=True, with_flash=with_flash)
 
 
 _NOT_A_STATE = np.uint64(0xFCFCFCFCFCFCFCFC)
@@ -207,7 +209,7 @@ def _least_busiest(capacities: list[int], top: int) -> np.ndarray:
 
 
 def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile, corner: str, *,
-              whole: bool) -> Report:
+              whole: bool, with_flash: bool = True) -> Report:
     p = _prep(profile, corner)
     lim, t, circ = p.limits, p.timing, p.circuit
     d = t.effective_duty
@@ -297,6 +299,7 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
         if t.shift_us > t.row_period_us:
             violations.append(Violation(None, "scan-timing", f"{profile.n_registers} registers at "
                                         f"{profile.scan.shift_clock_hz:g} Hz", t.shift_us, t.row_period_us, "us"))
+    if whole and with_flash:
         flash = flash_check(frames, durations, profile)
         for rule, value in (("flash-general", flash.general_per_s), ("flash-red", flash.red_per_s)):
             if value > 3.0:
@@ -319,8 +322,10 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
         supply_avg_ma=supply_avg, frame_ok=frame_ok, row_limit_ma=lim.row_limit_ma, violations=violations,
         timing=t, flash=flash, led_ma_min=led_min, led_ma_max=led_max_nan, driver_tj_c=driver_tj,
         resistor_w_max=res_w, stuck_scan=stuck, stuck_parts=stuck_parts, utilisation=utilisation,
-        rule_utilisation=rule_util, binding_index=binding, led_uniformity=uniformity(led_min, led_max_nan, profile),
-        led_uniformity_all=uniformity(span[0], span[1], profile),
+        rule_utilisation=rule_util, binding_index=binding,
+        # the guard reads only the violations: no light model on its path
+        led_uniformity=uniformity(led_min, led_max_nan, profile) if whole else None,
+        led_uniformity_all=uniformity(span[0], span[1], profile) if whole else None,
         row_utilisation_of=lambda: _row_utilisation(row_ma, led, counts.most_on_one, p))
 
 
