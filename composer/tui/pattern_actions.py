@@ -140,7 +140,7 @@ class PatternActions(_Editor):
                 self.run_edit(s.change_profile, profile, anchor)
 
         self.app.push_screen(PickOne(
-            "The panel size changes", f"{now} to {new} LEDs ({SIZE_WORDS}) on profile {profile.name}: every frame "
+            f"The panel size changes (profile {profile.name})", f"{now} to {new} LEDs ({SIZE_WORDS}): every frame "
             "is padded with off LEDs or cropped. Which part of the picture stays in place?",
             [(a, a.replace("-", " ")) for a in ANCHORS], highlight="centre", id="pick-anchor"), anchored)
 

@@ -294,7 +294,7 @@ class Session:
         """Turn off the picked LEDs (in every frame they were picked in), or the region's LEDs (in the
         frame on the canvas, or in every picked frame)."""
         if self.picked_mask() is not None:
-            return self.edit_pictures(f"turn off the picked {BRUSH_NAMES[self.leds.colour]} LEDs", model.clear)
+            return self.edit_pictures("turn off", model.clear)
         if self.mark is None:
             raise InputError("nothing selected: m marks a region, M picks LEDs by colour")
         top, left, bottom, right = self.region()
