@@ -69,6 +69,14 @@ class Tmux:
     def pid(self, name: str) -> int:
         return int(self.run("display-message", "-p", "-t", name, "#{pane_pid}").strip())
 
+    def quit(self, name: str) -> None:
+        """q, then the session must end (rowcast exits) within 10 s."""
+        self.keys(name, "q")
+        deadline = time.monotonic() + 10
+        while self.alive(name) and time.monotonic() < deadline:
+            time.sleep(0.1)
+        assert not self.alive(name), "rowcast did not quit"
+
     def close(self) -> None:
         self.run("kill-server", check=False)
 
@@ -112,11 +120,7 @@ def test_draw_add_frame_save_in_a_real_terminal(term, tmp_path):
     term.keys("ed", "C-s")
     screen = term.wait_for("ed", "saved /")
     assert "frame 1 of 2" in screen and _canvas_rows(screen)[1].startswith("· · ◆"), screen
-    term.keys("ed", "q")
-    deadline = time.monotonic() + 10
-    while term.alive("ed") and time.monotonic() < deadline:
-        time.sleep(0.1)
-    assert not term.alive("ed"), "rowcast did not quit"
+    term.quit("ed")
     doc = tomllib.loads(path.read_text(encoding="utf-8"))
     assert [f["leds"].splitlines()[0] for f in doc["frame"]] == ["rga.....", "........"]
     assert doc["frame"][1]["leds"].splitlines()[1] == "..a....."
@@ -192,11 +196,7 @@ def test_new_pattern_on_a_profile_file_then_another_profile(term, tmp_path):
     term.run("send-keys", "-t", "new", "-l", "signs/small")
     term.keys("new", "Enter")
     term.wait_for("new", "saved signs/small.rowcast.toml")
-    term.keys("new", "q")
-    deadline = time.monotonic() + 10
-    while term.alive("new") and time.monotonic() < deadline:
-        time.sleep(0.1)
-    assert not term.alive("new"), "rowcast did not quit"
+    term.quit("new")
     big = tomllib.loads((tmp_path / "signs" / "new.rowcast.toml").read_text(encoding="utf-8"))
     small = tomllib.loads((tmp_path / "signs" / "small.rowcast.toml").read_text(encoding="utf-8"))
     assert big["profile"] == "../work/my-panel.toml" and small["profile"] == "bench-8x8"
@@ -246,12 +246,8 @@ def test_pick_by_colour_and_panel_size_at_80x24(term, tmp_path):
     screen = term.wait_for("sel", "wide-16x8 16x8")
     assert "q quit" in screen.splitlines()[-1], screen
     term.keys("sel", "C-s")
-    term.wait_for("sel", "saved ")
-    term.keys("sel", "q")
-    deadline = time.monotonic() + 10
-    while term.alive("sel") and time.monotonic() < deadline:
-        time.sleep(0.1)
-    assert not term.alive("sel"), "rowcast did not quit"
+    term.wait_for("sel", "saved /")
+    term.quit("sel")
     doc = tomllib.loads(path.read_text(encoding="utf-8"))
     assert doc["profile"] == "wide-16x8"
     assert doc["frame"][0]["leds"].splitlines() == [".r" + "." * 14] + ["." * 16] * 7
