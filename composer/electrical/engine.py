@@ -118,6 +118,7 @@ def analyse(frames, durations_ms, profile: Profile, *, corner: str = "typ", with
 
 
 _NOT_A_STATE = np.uint64(0xFCFCFCFCFCFCFCFC)
+_COLOUR_AXIS = np.arange(2)[:, None]    # with (F,) frame and (2, F) row indices: one value per colour and frame
 
 
 def _checked(frames) -> np.ndarray:
@@ -245,7 +246,7 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
     # LED peak and average, per colour
     # the max is the value at the argmax: one pass over the short row axis, not two
     led_row = led.argmax(axis=2)                               # (2, F)
-    led_max = np.take_along_axis(led, led_row[..., None], axis=2)[..., 0].T   # (F, 2)
+    led_max = led[_COLOUR_AXIS, fa, led_row].T                 # (F, 2)
     led_row = led_row.T
     for rule, measured, limit in (("led-peak", led_max, lim.led_peak_ma),
                                   ("led-average", led_max * d, lim.led_average_ma)):
@@ -260,7 +261,7 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
     # register package: all its outputs in one row slot
     pkg_ma = counts.most_on_one * led                         # (2, F, R)
     pk_row = pkg_ma.argmax(axis=2)
-    pk = np.take_along_axis(pkg_ma, pk_row[..., None], axis=2)[..., 0]    # (2, F)
+    pk = pkg_ma[_COLOUR_AXIS, fa, pk_row]                     # (2, F)
     pk_c = pk.argmax(axis=0)
     package_ma = pk[pk_c, fa]
     checks.append(("register-package", package_ma, lim.package_ma, "mA",
