@@ -178,3 +178,20 @@ def test_corner_ranges_from_the_lit_counts_equal_a_full_analysis_at_each_corner(
         known = analyse(frames, ms, prof, corner="stress")
         got = corner_ranges(Animation(frames, ms, profile=name), prof, known)
         assert got == {c: analyse(frames, ms, prof, corner=c).led_ma_range() for c in CORNERS}
+
+
+def test_json_writer_refuses_a_number_json_cannot_hold():
+    """orjson would print NaN as null: json_text checks what could hold one first (the per-frame columns are
+    rounded to finite numbers or null by the report itself)."""
+    from types import SimpleNamespace
+
+    from composer.commands.check import json_text
+    from composer.electrical import Violation
+    ok = SimpleNamespace(violations=[Violation(0, "led-peak", "row 0", 30.0, 20.0, "mA")])
+    assert json.loads(json_text({"summary": {"a": 1.5}, "frames": {"ms": [100]}}, ok)) == {
+        "summary": {"a": 1.5}, "frames": {"ms": [100]}}
+    with pytest.raises(ValueError):
+        json_text({"summary": {"a": float("nan")}, "frames": {}}, ok)
+    bad = SimpleNamespace(violations=[Violation(0, "led-peak", "row 0", float("inf"), 20.0, "mA")])
+    with pytest.raises(ValueError):
+        json_text({"summary": {}, "frames": {}}, bad)
