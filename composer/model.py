@@ -98,8 +98,9 @@ class Animation:
         self.durations_ms = np.asarray(self.durations_ms, dtype=np.int64).reshape(-1)
         if self.durations_ms.shape[0] != self.frames.shape[0]:
             raise InputError(f"{self.frames.shape[0]} frames but {self.durations_ms.shape[0]} durations")
-        for i, ms in enumerate(self.durations_ms.tolist()):
-            _check_ms(ms, f"frame {i}: duration")
+        bad = np.flatnonzero((self.durations_ms < MIN_MS) | (self.durations_ms > MAX_MS))
+        if bad.size:   # checked as one array; the first bad frame is named
+            _check_ms(int(self.durations_ms[bad[0]]), f"frame {int(bad[0])}: duration")
 
     # -- construction ------------------------------------------------------------------------
     @classmethod
