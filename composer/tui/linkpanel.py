@@ -378,9 +378,14 @@ class LinkPanel(Vertical):
     def _refresh_labels(self) -> None:
         if not self.is_mounted or self._gone:
             return
-        self.query_one("#link-connect", Button).label = "disconnect" if self.link is not None else "connect"
-        self.query_one("#link-live", Button).label = "live: on" if self.live else "live: off"
-        self.query_one("#link-play", Button).label = "stop" if self._stop_play is not None else "play"
+        labels = {"#link-connect": "disconnect" if self.link is not None else "connect",
+                  "#link-live": "live: on" if self.live else "live: off",
+                  "#link-play": "stop" if self._stop_play is not None else "play"}
+        for selector, label in labels.items():
+            button = self.query_one(selector, Button)
+            if str(button.label) != label:
+                button.label = label
+                button.refresh(layout=True)     # a longer label needs a wider button ("disconn" otherwise)
         note = self.query_one("#device-note", Static)
         if self.blocked:
             note.update("BLOCKED, not sent: " + "; ".join(self.blocked))
