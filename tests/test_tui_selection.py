@@ -177,15 +177,16 @@ async def test_delete_needs_a_selection(tmp_path):
 MODES = ["e", "m", "right", "w", "A", "c", "n"]      # pen, mark, wrap, as lit, clipboard, compact cells
 
 
+@pytest.mark.parametrize("size", [(80, 24), (120, 40)], ids=lambda s: f"{s[0]}x{s[1]}")
 @pytest.mark.parametrize("name", sorted(bundled_profiles()))
 @async_test
-async def test_every_mode_shows_at_80x24(tmp_path, name):
-    """Every mode on at once: each flag of the tool line shows whole, the footer keeps "q quit", and
-    the device view keeps both side borders."""
+async def test_every_mode_and_button_shows(tmp_path, name, size):
+    """Every mode on at once: each flag of the tool line shows whole, the footer keeps "q quit"; once
+    connected, the device view keeps both side borders and every link button shows its whole label."""
     p = load_profile(name)
     path = make_pattern(tmp_path, frames=2, rows=p.rows, cols=p.cols, profile=name, seed=14)
     app = app_for(path)
-    async with app.run_test(size=(80, 24)) as pilot:
+    async with app.run_test(size=size) as pilot:
         await pilot.pause()
         await pilot.press(*MODES)
         await pilot.pause()
@@ -195,8 +196,9 @@ async def test_every_mode_shows_at_80x24(tmp_path, name):
                      "as lit typ", "clip 2x1"):
             assert any(flag in line for line in lines), (flag, text)
         assert "q quit" in lines[-1]
-        await pilot.press("g", "C")
+        await pilot.press("n", "n", "g", "C")                  # normal cells again: the narrowest link pane
         ed = editor(app)
+        assert ed.canvas.mode == "normal"
         device = ed.query_one("#device")
         for _ in range(50):
             await pilot.pause(0.1)
@@ -208,21 +210,8 @@ async def test_every_mode_shows_at_80x24(tmp_path, name):
         rows = screen_text(app).splitlines()
         top = rows[device.region.y][device.region.x:device.region.right]
         assert top.startswith("╭") and top.endswith("╮"), top
-        await pilot.press("C")
-        await pilot.pause()
-
-
-@async_test
-async def test_link_buttons_whole_at_120_columns(tmp_path):
-    path = make_pattern(tmp_path, frames=1, seed=15)
-    app = app_for(path)
-    async with app.run_test(size=(120, 40)) as pilot:
-        await pilot.pause()
-        await pilot.press("C")
-        for _ in range(50):
-            await pilot.pause(0.1)
-            if "disconnect" in screen_text(app):
-                break
-        assert " disconnect " in screen_text(app)
+        inside = " ".join(row[pane.region.x:pane.region.right] for row in rows[pane.region.y:pane.region.bottom])
+        for label in (" disconnect ", " live: off ", " play "):
+            assert label in inside, (label, inside)
         await pilot.press("C")
         await pilot.pause()

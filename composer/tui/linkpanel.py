@@ -106,6 +106,20 @@ class LinkPanel(Vertical):
         yield device
         yield Static("", id="device-note", markup=False)
 
+    def on_resize(self) -> None:
+        self._fit_buttons()
+
+    def _fit_buttons(self) -> None:
+        """The buttons stand one above the other when a row of them would not fit the pane (a wide
+        panel's canvas at 80x24 leaves the pane about 30 columns), so none is cut off."""
+        if not self.is_mounted or self._gone:
+            return
+        box = self.query_one("#link-buttons")
+        need = sum(len(str(b.label)) + 3 for b in box.query(Button))    # label, padding, margin
+        width = self.scrollable_content_region.width
+        if width:
+            box.set_class(need > width, "-stacked")
+
     def on_mount(self) -> None:
         self.call_after_refresh(self._refresh_labels)
         self.set_interval(_POLL_S, self._poll_receiver)
@@ -386,6 +400,7 @@ class LinkPanel(Vertical):
             if str(button.label) != label:
                 button.label = label
                 button.refresh(layout=True)     # a longer label needs a wider button ("disconn" otherwise)
+        self._fit_buttons()
         note = self.query_one("#device-note", Static)
         if self.blocked:
             note.update("BLOCKED, not sent: " + "; ".join(self.blocked))
