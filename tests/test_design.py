@@ -216,3 +216,16 @@ def test_derived_profile_of_every_bundled_profile_reads_back_with_its_comments(n
         assert derived.resistor.parts[part].ohms != prof.resistor.parts[part].ohms
         assert derived.resistor.parts[part].tolerance_pct == prof.resistor.parts[part].tolerance_pct
     assert (derived.rows, derived.cols, derived.panel.common) == (prof.rows, prof.cols, prof.panel.common)
+
+
+@pytest.mark.parametrize("lit", [4, 8])
+def test_fix_names_the_patterns_own_frame_number_when_frames_repeat(lit):
+    """Frames 0, 1 and 3 are the same (dark), frame 2 lights ``lit`` red LEDs of row 0: the fix's binding place
+    is frame 2 of the pattern whether or not the frame needs a fix (8 outputs of one register are over
+    its package limit on bench-8x8, 4 are not), never the place among the distinct frames."""
+    prof = load_profile("bench-8x8")
+    frames = np.zeros((4, 8, 8), np.uint8)
+    frames[2, 0, :lit] = 1
+    fix = resistor_fix(prof, frames, [100] * 4)
+    assert fix.needed == (lit == 8)
+    assert fix.binding_where == "frame 2", fix.binding_where

@@ -19,7 +19,7 @@ from ..electrical.fixes import allowance, fixes_json, resistor_fix
 from ..errors import EXIT_OK, EXIT_VIOLATION, InputError
 from ..pattern_file import open_pattern
 
-__all__ = ["configure", "run", "render_text", "corner_ranges", "json_text"]
+__all__ = ["configure", "run", "render_text", "corner_ranges", "check_document", "json_text"]
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
@@ -46,6 +46,19 @@ def corner_ranges(anim, profile, known: Report | None = None) -> dict[str, dict[
             for corner in CORNERS}
 
 
+def check_document(report: Report, profile, pattern: str, ranges: dict, allow, fix, *,
+                   every_place: bool = False) -> dict:
+    """The check report document of README "The check report" (``rowcast-check/2``): the engine's report
+    with what check adds to its summary. ``export --json`` holds the same document under ``"check"``."""
+    doc = report.to_json()
+    doc["summary"]["pattern"] = pattern
+    doc["summary"]["corners"] = ranges
+    doc["summary"]["every_place"] = bool(every_place)
+    doc["summary"]["fixes"] = fixes_json(allow, [fix])
+    doc["summary"]["scan_speed"] = scan_speed(profile).to_json()
+    return doc
+
+
 def json_text(doc: dict, report: Report) -> str:
     """The report document as one line of JSON. orjson writes the 2.4 MB of a 10,000-frame 8x8 report
     about nine times faster than the standard encoder (its float formatting is most of the cost); it
@@ -69,12 +82,7 @@ def run(args: argparse.Namespace) -> int:
     allow = allowance(profile)
     fix = resistor_fix(profile, anim.frames, anim.durations_ms, scope="the pattern", known=report)
     if args.json:
-        doc = report.to_json()
-        doc["summary"]["pattern"] = str(args.pattern)
-        doc["summary"]["corners"] = ranges
-        doc["summary"]["every_place"] = bool(args.all)
-        doc["summary"]["fixes"] = fixes_json(allow, [fix])
-        doc["summary"]["scan_speed"] = scan_speed(profile).to_json()
+        doc = check_document(report, profile, str(args.pattern), ranges, allow, fix, every_place=args.all)
         if args.per_led:
             led = np.round(led_currents(anim.frames, profile, corner=args.corner).astype(np.float64), 4)
             if not np.isfinite(led).all():

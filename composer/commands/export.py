@@ -17,8 +17,10 @@ from pathlib import Path
 import numpy as np
 
 from ..bundled import resolve_pattern_ref
+from .check import check_document, corner_ranges
 from ..electrical import CORNERS
 from ..electrical.light import as_lit
+from ..electrical.fixes import allowance, resistor_fix
 from ..errors import EXIT_OK, EXIT_VIOLATION, InputError
 from ..exports.c_tables import LAYOUTS, c_header, check_prefix
 from ..exports.check import check_report
@@ -97,7 +99,12 @@ def run(args: argparse.Namespace) -> int:
         sheet = png_sheet_picture(anim, args.scale, lit)
         blobs["--png"] = (encode_png(sheet), png_check(sheet))
     if args.json_out:
-        document = plain_document(anim, profile, report)
+        # the same document as rowcast check --json --corner typ (README: export --json), naming the pattern
+        # by its file name as the C header does, so the file is the same whatever path or demo name was given
+        fix = resistor_fix(profile, anim.frames, anim.durations_ms, scope="the pattern", known=stress)
+        check = check_document(report, profile, pattern.name, corner_ranges(anim, profile, report),
+                               allowance(profile), fix)
+        document = plain_document(anim, profile, report, check)
         blobs["--json"] = (json_text(document).encode(), json_check(document))
     for opt, (data, check) in blobs.items():
         size = write_checked(wanted[opt], data, check=check)

@@ -107,10 +107,12 @@ def _dim_limit_ohm(profile: Profile, name: str) -> float:
                for k in ks)
 
 
-def _worst(rep) -> tuple[str, str, float]:
+def _worst(rep, numbers=None) -> tuple[str, str, float]:
+    """``numbers``: the animation's frame number of each frame of ``rep`` (default: the same)."""
     f = int(np.argmax(rep.utilisation))
     rule = rep.binding(f)
-    where = next((v.where for v in rep.frame_violations(f) if v.rule == rule), f"frame {f}")
+    shown = f if numbers is None else int(numbers[f])
+    where = next((v.where for v in rep.frame_violations(f) if v.rule == rule), f"frame {shown}")
     return rule, where, float(rep.utilisation[f])
 
 
@@ -130,23 +132,25 @@ def resistor_fix(profile: Profile, frames, durations_ms, *, scope: str = "the pa
         return ResistorFix(scope, series, present, dict(present), False, rule, where, u)
     # identical frames judge alike: check each content once
     _, first = np.unique(frames.reshape(frames.shape[0], -1), axis=0, return_index=True)
-    frames, durations = frames[np.sort(first)], durations[np.sort(first)]
+    kept = np.sort(first)                     # the animation's frame number of each content checked
+    frames, durations = frames[kept], durations[kept]
     ok, rep = _passes(profile, frames, durations)
     if ok:
-        rule, where, u = _worst(rep)
+        rule, where, u = _worst(rep, kept)
         return ResistorFix(scope, series, present, dict(present), False, rule, where, u)
     # Search on the failing frames only (bigger resistors lower every current), then confirm on all:
     # a resistor's own dissipation can rise with its value while it is small against the rest of
     # the branch, so a frame that passed may fail; then the search runs again on every frame.
     bad = ~rep.frame_ok
-    fix = _search(profile, frames[bad], durations[bad], scope, series, present)
+    fix = _search(profile, frames[bad], durations[bad], scope, series, present, kept[bad])
     if fix.ohm is not None and not bad.all() and not _passes(with_resistors(profile, fix.ohm), frames, durations)[0]:
-        fix = _search(profile, frames, durations, scope, series, present)
+        fix = _search(profile, frames, durations, scope, series, present, kept)
     return fix
 
 
 def _search(profile: Profile, frames: np.ndarray, durations: np.ndarray, scope: str, series: str,
-            present: dict[str, float]) -> ResistorFix:
+            present: dict[str, float], numbers: np.ndarray) -> ResistorFix:
+    """``numbers``: the animation's frame number of each of ``frames`` (what ``binding_where`` names)."""
     ladders = {}
     for name, ohms in present.items():
         top = max(_dim_limit_ohm(profile, name), ohms)
@@ -167,7 +171,7 @@ def _search(profile: Profile, frames: np.ndarray, durations: np.ndarray, scope: 
     if not top_ok:
         if top_rep is None:
             return ResistorFix(scope, series, present, None, True, "supply", "the LEDs cannot light", math.inf)
-        rule, where, u = _worst(top_rep)
+        rule, where, u = _worst(top_rep, numbers)
         return ResistorFix(scope, series, present, None, True, rule, where, u)
     lo, hi = -1, steps - 1                                  # all parts stepped together: lo fails, hi passes
     while hi - lo > 1:
@@ -189,7 +193,7 @@ def _search(profile: Profile, frames: np.ndarray, durations: np.ndarray, scope: 
         best[name] = hi_n
     chosen = at(best)
     _, rep = _passes(with_resistors(profile, chosen), frames, durations)
-    rule, where, u = _worst(rep)
+    rule, where, u = _worst(rep, numbers)
     return ResistorFix(scope, series, present, chosen, True, rule, where, u)
 
 

@@ -39,7 +39,9 @@ def _report_data(report: Any) -> Any:
     return json.loads(data) if isinstance(data, (str, bytes)) else data
 
 
-def export_document(anim: Animation, profile: Profile, report: Any) -> dict[str, Any]:
+def export_document(anim: Animation, profile: Profile, report: Any, check: dict | None = None) -> dict[str, Any]:
+    """``check``: the check report document (``rowcast check --json --corner typ``'s, which ``export --json``
+    writes); without it, the engine's own report."""
     data = shift_bytes(anim.frames, profile)
     return {
         "format": EXPORT_FORMAT,
@@ -59,7 +61,7 @@ def export_document(anim: Animation, profile: Profile, report: Any) -> dict[str,
             "shift_order": [reg.name for reg in shift_order(profile)],
             "shift": [[bytes(row).hex() for row in frame] for frame in data],
         },
-        "check": _report_data(report),
+        "check": _report_data(report) if check is None else check,
     }
 
 
@@ -67,9 +69,9 @@ def export_json(anim: Animation, profile: Profile, report: Any) -> str:
     return json_text(plain_document(anim, profile, report))
 
 
-def plain_document(anim: Animation, profile: Profile, report: Any) -> Any:
+def plain_document(anim: Animation, profile: Profile, report: Any, check: dict | None = None) -> Any:
     """The document as JSON holds it (lists, strings, finite numbers): what the file must parse back to."""
-    return _plain(export_document(anim, profile, report))
+    return _plain(export_document(anim, profile, report, check))
 
 
 def json_text(document: Any) -> str:
