@@ -44,7 +44,8 @@ class AnimationChecks(_Editor):
         anim = self.session.anim
         self._animation_check(anim.frames.copy(), anim.durations_ms.copy(), self.session.history.serial)
 
-    @work(thread=True, exclusive=True, group="animation-check")
+    # a description: Textual otherwise builds one from repr() of the arguments, the whole animation
+    @work(thread=True, exclusive=True, group="animation-check", description="animation-wide checks")
     def _animation_check(self, frames: np.ndarray, durations: np.ndarray, serial: int) -> None:
         from ..electrical import analyse
         notes: list[str] = []

@@ -88,6 +88,7 @@ def _lit_style(state: int, shade: int) -> Style:
 
 
 _DIM = Style(dim=True)
+_SEEN_LINES = 4096   # finished LED lines kept by content (a few hundred frames of a 16-row panel)
 SCROLL_MARGIN = 2   # LEDs kept in view beyond the cursor when the window moves with it
 # overview: two LEDs a terminal cell, the upper one the foreground of "▀", the lower one its background
 _HALF_OFF = "#3a3a3a"
@@ -156,6 +157,7 @@ class LedView(Widget):
         self._codes = np.zeros((rows, cols), np.uint32)
         self._shade: np.ndarray | None = None
         self._lines: dict[int, Strip] = {}          # finished lines of the current window, by y
+        self._seen: dict[tuple, Strip] = {}         # finished LED lines by what they show
         self._cells: dict[int, Strip] = {}          # a whole row's cells (normal / compact), by row
         self._base_style: Style | None = None
         self._styled: dict[int, tuple[str, Style, bool]] = {}
@@ -388,6 +390,7 @@ class LedView(Widget):
         self._base_style = None               # a theme, class or focus change restyles every line
         self._frame_st = None
         self._lines.clear()
+        self._seen.clear()
         self._cells.clear()
         self.refresh()
 
@@ -405,11 +408,24 @@ class LedView(Widget):
         elif y == 1:
             strip = self._header(vis_cols, inner)
         elif 2 <= y < lines + 2:
-            strip = self._row_line(y, vis_rows, vis_cols, inner)
+            # lines are kept by what they show: stepping through frames that share rows (or back to
+            # a frame shown before) takes the finished line instead of drawing it again
+            r0, c0 = self.origin
+            r = r0 + (y - 2) * self.rows_per_line
+            key = (y, self.origin, self.mode, width, inner, vis_cols, self._codes.shape,
+                   self._codes[r:r + self.rows_per_line, c0:c0 + vis_cols].tobytes())
+            strip = self._seen.get(key)
+            if strip is None:
+                strip = self._row_line(y, vis_rows, vis_cols, inner)
+                if len(self._seen) >= _SEEN_LINES:
+                    self._seen.clear()
+                self._seen[key] = strip
         else:
             return Strip.blank(width, self._base())
         if strip.cell_length != width:
             strip = strip.crop(0, width).extend_cell_length(width, self._base())
+            if 2 <= y < lines + 2:
+                self._seen[key] = strip
         self._lines[y] = strip
         return strip
 

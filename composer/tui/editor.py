@@ -49,6 +49,7 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         self.playing = False
         self._play_timer = None
         self._anim_check_timer = None
+        self._fix_timer = None
         self._autosaved_serial = session.history.serial
         self.animation_notes: list[str] = []
         self.message = ""

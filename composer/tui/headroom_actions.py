@@ -29,7 +29,9 @@ from .analysis import CORNER
 from .dialogs import AskText
 from .readout import Readout
 
-__all__ = ["HeadroomActions", "cursor_text"]
+__all__ = ["HeadroomActions", "cursor_text", "FIX_DELAY_S"]
+
+FIX_DELAY_S = 0.3       # the frame's fix is searched once typing pauses (as the animation-wide checks)
 
 
 def cursor_text(frame: np.ndarray, profile, row: int, col: int, led_ma: np.ndarray, totals: np.ndarray) -> str:
@@ -85,9 +87,21 @@ class HeadroomActions(_Editor):
         frame_fix = self._fix_cache.get(key)
         if frame_fix is None:
             readout.show_fix(["fix: working out the resistors…"])
-            self._frame_fix(s.profile, s.frame.copy(), s.current, key)
+            # the search waits until typing pauses: a worker thread holding the interpreter lock
+            # while keys arrive made every key wait for it
+            if self._fix_timer is not None:
+                self._fix_timer.stop()
+            self._fix_timer = self.set_timer(FIX_DELAY_S, self._start_frame_fix)
             return
         readout.show_fix(self._fix_lines(s.profile, frame_fix, s.current))
+
+    def _start_frame_fix(self) -> None:
+        self._fix_timer = None
+        s = self.session
+        key = (id(s.profile), s.frame.tobytes())
+        res = self.checks.results[s.current] if s.current < len(self.checks.results) else None
+        if res is not None and not res.ok and key not in self._fix_cache:
+            self._frame_fix(s.profile, s.frame.copy(), s.current, key)
 
     def _fix_lines(self, profile, frame_fix: ResistorFix, index: int) -> list[str]:
         allow = ", ".join(f"{a.per_register} {a.colour}" for a in allowance(profile))
@@ -99,7 +113,7 @@ class HeadroomActions(_Editor):
                          + (" · F writes it" if pattern_fix.ohm is not None else ""))
         return lines
 
-    @work(thread=True, group="frame-fix")
+    @work(thread=True, group="frame-fix", description="the resistors that fix the frame shown")
     def _frame_fix(self, profile, frame: np.ndarray, index: int, key) -> None:
         try:
             fix = resistor_fix(profile, frame[None], [100], scope=f"frame {index}")
