@@ -12,7 +12,6 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..electrical import analyse as _analyse
 from ..model import Animation
 from ..profile import Profile
 
@@ -81,6 +80,7 @@ class FrameChecks:
 
     def _run(self, frames: np.ndarray, durations: np.ndarray):
         # The stress corner, as rowcast check and the link's guard judge: a frame marked ok here is sent.
+        from ..electrical import analyse as _analyse   # imported here: the editor paints before the engine loads
         report = _analyse(frames, durations, self.profile, corner=CORNER)
         self.analysed_frames += frames.shape[0]
         limit = getattr(report, "row_limit_ma", None)

@@ -93,6 +93,8 @@ class AnimationChecks(_Editor):
         The guard sees one frame, so its findings say "frame 0"; they are named by the frame shown."""
         import dataclasses
         frame = self.session.frame
+        if len(self.checks.results) != self.session.anim.n_frames:
+            return []                         # before the first check (start-up): no engine yet
         key = (self.session.current, frame.tobytes())
         line = self._guard_cache.get(key)
         if line is None:

@@ -16,6 +16,7 @@ the one the user edits. The device preview in the link panel is a plain :class:`
 from __future__ import annotations
 
 from functools import lru_cache
+from typing import TYPE_CHECKING
 
 import numpy as np
 from rich.segment import Segment
@@ -25,8 +26,10 @@ from textual.message import Message
 from textual.strip import Strip
 from textual.widget import Widget
 
-from ..electrical.light import Lit
 from ..model import AMBER, GREEN, OFF, RED
+
+if TYPE_CHECKING:                              # the light model loads when as-lit is first asked for
+    from ..electrical.light import Lit
 
 __all__ = ["LedView", "LedCanvas", "GLYPH", "HOLLOW", "COLOUR", "CELL_W", "GUTTER_W", "lit_shades",
            "LIGHTNESS_STEPS", "MODES", "MODE_TEXT", "SCROLL_MARGIN"]

@@ -19,12 +19,11 @@ else:
 import numpy as np
 from textual import work
 
-from ..electrical import led_currents, register_totals
-from ..electrical.counts import column_groups
-from ..electrical.fixes import ResistorFix, allowance, resistor_fix
+# the engine is imported where it is used: the editor paints before it loads (start-up)
+if TYPE_CHECKING:
+    from ..electrical.fixes import ResistorFix
 from ..errors import RowcastError
 from ..profile import COLOURS, bundled_profiles, load_profile
-from ..profile_derive import derived_name, derived_profile_text, write_derived_profile
 from .analysis import CORNER
 from .dialogs import AskText
 from .readout import Readout
@@ -41,6 +40,7 @@ def cursor_text(frame: np.ndarray, profile, row: int, col: int, led_ma: np.ndarr
     state = int(frame[row, col])
     lit = [k for k in range(2) if state & (1 << k)]
     led = " + ".join(f"{COLOURS[k]} {led_ma[row, col, k]:.1f}" for k in lit) + " mA" if lit else "off"
+    from ..electrical.counts import column_groups
     limit = profile.column_register.package_abs_max_ma
     regs = []
     for g, grp in enumerate(column_groups(profile)):
@@ -61,9 +61,12 @@ class HeadroomActions(_Editor):
     # -- the LED under the cursor ------------------------------------------------------------
     def update_cursor_readout(self) -> None:
         s = self.session
+        if len(self.checks.results) != s.anim.n_frames:
+            return                            # before the first check (start-up): the engine is not loaded yet
         key = (id(s.profile), s.frame.tobytes())
         hit = self._cursor_cache.get("frame")
         if hit is None or hit[0] != key:
+            from ..electrical import led_currents, register_totals
             try:
                 hit = (key, led_currents(s.frame[None], s.profile, corner=CORNER)[0],
                        register_totals(s.frame, s.profile, corner=CORNER))
@@ -104,6 +107,7 @@ class HeadroomActions(_Editor):
             self._frame_fix(s.profile, s.frame.copy(), s.current, key)
 
     def _fix_lines(self, profile, frame_fix: ResistorFix, index: int) -> list[str]:
+        from ..electrical.fixes import allowance
         allow = ", ".join(f"{a.per_register} {a.colour}" for a in allowance(profile))
         lines = [f"fix ({CORNER}): at most {allow} on per register in a row"]
         lines.append("fix: " + short_fix(frame_fix, "this frame"))
@@ -115,6 +119,7 @@ class HeadroomActions(_Editor):
 
     @work(thread=True, group="frame-fix", description="the resistors that fix the frame shown")
     def _frame_fix(self, profile, frame: np.ndarray, index: int, key) -> None:
+        from ..electrical.fixes import resistor_fix
         try:
             fix = resistor_fix(profile, frame[None], [100], scope=f"frame {index}")
         except RowcastError:
@@ -134,6 +139,8 @@ class HeadroomActions(_Editor):
 
     # -- F: write the fix as a derived profile and move the pattern to it ------------------------
     def action_apply_fix(self) -> None:
+        from ..electrical.fixes import resistor_fix
+        from ..profile_derive import derived_name, derived_profile_text, write_derived_profile
         s = self.session
         try:
             fix = resistor_fix(s.profile, s.anim.frames, s.anim.durations_ms)
