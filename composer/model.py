@@ -15,12 +15,12 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .errors import InputError
+from .errors import InputError, shorten
 
 __all__ = [
     "OFF", "RED", "GREEN", "AMBER", "STATES", "MAX_FRAMES", "MAX_SIDE", "MAX_LEDS", "MIN_MS", "MAX_MS", "Animation",
     "check_led_count", "shift", "mirror", "rotate", "invert", "clear", "copy_region", "paste_region", "check_frame_array",
-    "swap_colours", "ANCHORS", "refit", "size_text",
+    "swap_colours", "ANCHORS", "refit", "size_text", "parse_size",
 ]
 
 OFF, RED, GREEN, AMBER = 0, 1, 2, 3
@@ -57,6 +57,18 @@ def size_text(rows: int, cols: int) -> str:
     return f"{cols}x{rows}"
 
 
+def parse_size(text: str) -> tuple[int, int]:
+    """``"16x8"`` (columns x rows, as :func:`size_text` writes it; ``×`` and spaces allowed) to
+    ``(rows, cols)``; an InputError says what was expected."""
+    parts = text.strip().lower().replace("×", "x").replace(" ", "").split("x")
+    if len(parts) != 2 or not all(p.isdigit() for p in parts):
+        raise InputError(f"{shorten(text.strip(), 20)}: write the size as columns x rows, e.g. 16x8")
+    cols, rows = int(parts[0]), int(parts[1])
+    if not (1 <= rows <= MAX_SIDE and 1 <= cols <= MAX_SIDE):
+        raise InputError(f"{size_text(rows, cols)}: each side is 1 to {MAX_SIDE} LEDs")
+    return rows, cols
+
+
 def check_led_count(frames: int, rows: int, cols: int) -> None:
     if frames * rows * cols > MAX_LEDS:
         raise InputError(f"{frames} frames of {size_text(rows, cols)} LEDs hold {frames * rows * cols:,} LED states, over "
@@ -86,8 +98,9 @@ class Animation:
         self.durations_ms = np.asarray(self.durations_ms, dtype=np.int64).reshape(-1)
         if self.durations_ms.shape[0] != self.frames.shape[0]:
             raise InputError(f"{self.frames.shape[0]} frames but {self.durations_ms.shape[0]} durations")
-        for i, ms in enumerate(self.durations_ms.tolist()):
-            _check_ms(ms, f"frame {i}: duration")
+        bad = np.flatnonzero((self.durations_ms < MIN_MS) | (self.durations_ms > MAX_MS))
+        if bad.size:   # checked as one array; the first bad frame is named
+            _check_ms(int(self.durations_ms[bad[0]]), f"frame {int(bad[0])}: duration")
 
     # -- construction ------------------------------------------------------------------------
     @classmethod
@@ -240,9 +253,10 @@ def copy_region(frame: np.ndarray, top: int, left: int, bottom: int, right: int)
 
 
 def paste_region(frame: np.ndarray, clip: np.ndarray, top: int, left: int, *,
-                 transparent: bool = False) -> np.ndarray:
+                 transparent: bool = False, mask: np.ndarray | None = None) -> np.ndarray:
     """Paste ``clip`` with its top-left corner at (top, left), clipped at the edges. With
-    ``transparent``, off LEDs of the clip leave the frame as it was."""
+    ``transparent``, off LEDs of the clip leave the frame as it was; with ``mask`` (a bool array of
+    the clip's shape: LEDs picked by colour), only the masked LEDs are pasted."""
     out = frame.copy()
     rows, cols = frame.shape
     h, w = clip.shape
@@ -251,11 +265,10 @@ def paste_region(frame: np.ndarray, clip: np.ndarray, top: int, left: int, *,
     if r0 >= r1 or c0 >= c1:
         return out
     piece = clip[r0 - top:r1 - top, c0 - left:c1 - left]
+    keep = np.ones(piece.shape, bool) if mask is None else mask[r0 - top:r1 - top, c0 - left:c1 - left]
     if transparent:
-        target = out[r0:r1, c0:c1]
-        out[r0:r1, c0:c1] = np.where(piece != OFF, piece, target)
-    else:
-        out[r0:r1, c0:c1] = piece
+        keep = keep & (piece != OFF)
+    out[r0:r1, c0:c1] = np.where(keep, piece, out[r0:r1, c0:c1])
     return out
 
 

@@ -10,6 +10,7 @@ import pytest
 from composer.cli import main
 from composer.model import Animation
 from composer.pattern_file import save_pattern
+from composer.profile import bundled_profiles
 
 ROOT = Path(__file__).resolve().parent.parent
 OVERLOAD = ROOT / "patterns" / "overload-sweep.rowcast.toml"
@@ -42,19 +43,27 @@ def test_overload_exits_1_and_names_the_part(capsys):
 def test_json_has_the_documented_keys(capsys):
     assert main(["check", str(OVERLOAD), "--json"]) == 1
     doc = json.loads(capsys.readouterr().out)
-    assert doc["format"] == "rowcast-check/1"
+    assert doc["format"] == "rowcast-check/2"
     for key in ("refresh_hz", "duty", "supply_peak_ma", "supply_avg_ma", "flash", "flicker", "corner",
                 "frames_over", "worst_frame", "row_limit_ma", "stuck_scan", "corners", "ok"):
         assert key in doc["summary"], key
-    frame = doc["frames"][0]
-    for key in ("index", "worst_row", "worst_row_ma", "violations", "pin_ma_max", "package_ma_max", "ms"):
-        assert key in frame, key
-    v = frame["violations"][0]
-    assert set(v) >= {"rule", "where", "measured", "limit", "unit"}
+    frames = doc["frames"]                      # one list per key, entry i for frame i
+    n = doc["summary"]["frames"]
+    for key in ("ms", "worst_row", "worst_row_ma", "row_ma", "pin_ma_max", "package_ma_max", "supply_avg_ma",
+                "driver_tj_c", "resistor_w_max", "stuck_scan_over", "binding", "ok"):
+        assert len(frames[key]) == n, key
+    for colour in ("red", "green"):
+        assert len(frames["led_ma_range"][colour]["min"]) == len(frames["led_uniformity"][colour]) == n
+    assert all(len(u) == n for u in frames["utilisation"].values())
+    v = frames["violations"][0]
+    assert set(v) >= {"frame", "rule", "where", "measured", "limit", "unit"}
     assert v["measured"] > v["limit"]
+    assert [x["frame"] for x in frames["violations"]] == sorted(x["frame"] for x in frames["violations"])
     assert doc["summary"]["corner"] == "stress"
     assert doc["summary"]["frames_over"]["register-package"] == len(
-        [f for f in doc["frames"] if any(x["rule"] == "register-package" for x in f["violations"])])
+        {x["frame"] for x in frames["violations"] if x["rule"] == "register-package"})
+    # a frame is ok exactly when no violation names it
+    assert [not ok for ok in frames["ok"]] == [any(x["frame"] == f for x in frames["violations"]) for f in range(n)]
 
 
 def test_typ_corner_is_gentler(capsys):
@@ -100,20 +109,20 @@ def test_spice_defaults_to_the_worst_row(capsys):
 def test_json_utilisation_and_binding(capsys):
     assert main(["check", str(OVERLOAD), "--json"]) == 1
     doc = json.loads(capsys.readouterr().out)
-    for frame in doc["frames"]:
-        util = frame["utilisation"]
-        assert frame["binding"] == max(util, key=util.get)
-        assert frame["ok"] == (max(util.values()) <= 1.0)
+    frames = doc["frames"]
+    for f, (binding, ok) in enumerate(zip(frames["binding"], frames["ok"])):
+        util = {rule: u[f] for rule, u in frames["utilisation"].items()}
+        assert binding == max(util, key=util.get)
+        assert ok == (max(util.values()) <= 1.0)
     summary = doc["summary"]
     assert summary["binding"] == "register-package" and summary["utilisation"]["register-package"] > 1.0
-    assert summary["utilisation"]["register-package"] == max(f["utilisation"]["register-package"]
-                                                             for f in doc["frames"])
+    assert summary["utilisation"]["register-package"] == max(frames["utilisation"]["register-package"])
 
 
 def test_all_lists_both_register_packages_of_frame_0(capsys):
     assert main(["check", str(OVERLOAD), "--json", "--all"]) == 1
     doc = json.loads(capsys.readouterr().out)
-    where = [v["where"] for v in doc["frames"][0]["violations"] if v["rule"] == "register-package"]
+    where = [v["where"] for v in doc["frames"]["violations"] if v["frame"] == 0 and v["rule"] == "register-package"]
     assert any(w.startswith("U2 red in row 0") for w in where) and any(w.startswith("U3 green in row 0")
                                                                        for w in where)
     assert main(["check", str(OVERLOAD), "--all"]) == 1
@@ -130,13 +139,13 @@ def test_per_led_currents_in_the_json(tmp_path, capsys):
     path = _pattern(tmp_path, frames)
     assert main(["check", str(path), "--json", "--per-led"]) == 0
     doc = json.loads(capsys.readouterr().out)
-    led = np.array([f["led_ma"] for f in doc["frames"]])
+    led = np.array(doc["frames"]["led_ma"])
     assert led.shape == (2, 8, 8, 2)
     assert np.count_nonzero(led[0]) == 1 and led[0, 1, 2, 0] > 0
     assert np.count_nonzero(led[1]) == 8
     # KCL: a row's LEDs add up to the row current the same report gives
     for f in range(2):
-        assert np.allclose(led[f].sum(axis=(1, 2)), doc["frames"][f]["row_ma"], rtol=1e-4, atol=1e-3)
+        assert np.allclose(led[f].sum(axis=(1, 2)), doc["frames"]["row_ma"][f], rtol=1e-4, atol=1e-3)
     assert main(["check", str(path), "--per-led"]) == 2        # JSON only: a one-line error
     assert "--per-led" in capsys.readouterr().err
 
@@ -151,3 +160,38 @@ def test_fixes_in_text_and_json(capsys):
     assert kinds.count("register-allowance") == 2 and kinds.count("resistor") == 1
     res = next(f for f in fixes if f["kind"] == "resistor")
     assert res["needed"] and res["ohm"]["red"] > res["present_ohm"]["red"] and res["corner"] == "stress"
+
+
+@pytest.mark.parametrize("name", sorted(bundled_profiles()))
+def test_corner_ranges_from_the_lit_counts_equal_a_full_analysis_at_each_corner(name):
+    """check reads the other corners' LED ranges from the stress report's (lit red, lit green) row counts
+    instead of analysing the frames again: the numbers must be those a full analysis gives."""
+    from composer.commands.check import corner_ranges
+    from composer.electrical import CORNERS, analyse
+    from composer.profile import load_profile
+    prof = load_profile(name)
+    rng = np.random.default_rng(sum(map(ord, name)))
+    for share in (0.0, 0.1, 0.6, 1.0):       # dark, sparse, busy and fully lit frames
+        frames = rng.integers(1, 4, (5, prof.rows, prof.cols), dtype=np.uint8)
+        frames[rng.random(frames.shape) >= share] = 0
+        ms = np.full(5, 100)
+        known = analyse(frames, ms, prof, corner="stress")
+        got = corner_ranges(Animation(frames, ms, profile=name), prof, known)
+        assert got == {c: analyse(frames, ms, prof, corner=c).led_ma_range() for c in CORNERS}
+
+
+def test_json_writer_refuses_a_number_json_cannot_hold():
+    """orjson would print NaN as null: json_text checks what could hold one first (the per-frame columns are
+    rounded to finite numbers or null by the report itself)."""
+    from types import SimpleNamespace
+
+    from composer.commands.check import json_text
+    from composer.electrical import Violation
+    ok = SimpleNamespace(violations=[Violation(0, "led-peak", "row 0", 30.0, 20.0, "mA")])
+    assert json.loads(json_text({"summary": {"a": 1.5}, "frames": {"ms": [100]}}, ok)) == {
+        "summary": {"a": 1.5}, "frames": {"ms": [100]}}
+    with pytest.raises(ValueError):
+        json_text({"summary": {"a": float("nan")}, "frames": {}}, ok)
+    bad = SimpleNamespace(violations=[Violation(0, "led-peak", "row 0", float("inf"), 20.0, "mA")])
+    with pytest.raises(ValueError):
+        json_text({"summary": {}, "frames": {}}, bad)

@@ -30,6 +30,7 @@ import numpy as np
 import pytest
 import tomli_w
 
+from composer.electrical.scan_speed import LIGHT_AT_ONCE_CYCLES
 from composer.profile import bundled_profiles, load_profile
 from tests.conftest import need_simulator
 from transport import Link
@@ -278,7 +279,9 @@ def test_rewired_profiles_cover_the_matrix(tmp_path):
 # ---------------------------------------------------------------------------------------------------------------
 # Blanking
 # ---------------------------------------------------------------------------------------------------------------
-@pytest.mark.parametrize("blanking_us", [0.0, 0.3, 4.0, "largest"])
+# 2.5 us is 40 cycles at 16 MHz, the longest blanking the row interrupt ends itself; 2.5625 us is 41, the
+# shortest the compare-B interrupt ends (LIGHT_AT_ONCE_CYCLES, firmware_stub/board/avr328p/board_impl.h).
+@pytest.mark.parametrize("blanking_us", [0.0, 0.3, 2.5, 2.5625, 4.0, "largest"])
 def test_every_blanking_lights_the_panel(builds, tmp_path, blanking_us):
     base = tomllib.loads((PROFILE_DIR / "bench-8x8.toml").read_text())
     period_us = base["scan"]["row_period_us"]
@@ -295,8 +298,13 @@ def test_every_blanking_lights_the_panel(builds, tmp_path, blanking_us):
     oe = recs.oe[recs.oe[:, 0] >= recs.marks["frames"]]
     offs, ons = oe[oe[:, 1] == 0, 0], oe[oe[:, 1] == 1, 0]
     gaps = [int(ons[np.searchsorted(ons, t)] - t) for t in offs if np.searchsorted(ons, t) < len(ons)]
-    assert gaps and min(gaps) >= math.ceil(round(blanking_us * F / 1e6, 6)), (min(gaps), blanking_us)
+    blank_cycles = math.ceil(round(blanking_us * F / 1e6, 6))
+    assert gaps and min(gaps) >= blank_cycles, (min(gaps), blanking_us)
     assert len(ons) >= 2 * profile.rows
+    if blank_cycles <= LIGHT_AT_ONCE_CYCLES:
+        # ended inside the row interrupt at a fixed distance from the blanking, in every row alike (the
+        # tick that starts a scan included)
+        assert set(gaps) == {LIGHT_AT_ONCE_CYCLES}, sorted(set(gaps))
 
 
 def test_blanking_the_receiver_cannot_time_is_refused_with_the_key(tmp_path):

@@ -291,3 +291,28 @@ def test_rowcast_sim_bad_input_is_one_line_exit_2(tmp_path):
         assert done.returncode == 2, (argv, done.stderr)
         lines = done.stderr.strip().splitlines()
         assert len(lines) == 1 and names in lines[0] and "Traceback" not in done.stderr, done.stderr
+
+
+def test_only_the_row_interrupt_uses_its_registers(build_dir):
+    """The hand-written row interrupt (board/avr328p/row_tick.c) works in r2..r8 without saving them; the
+    Makefile keeps the compiler off them (-ffixed-r2 .. -ffixed-r8). Checked on the linked ELF with the
+    toolchain's own disassembler, so the C library and libgcc routines linked in are covered too: no
+    instruction outside the row interrupt names one of them."""
+    import re
+    import subprocess
+    from tests.conftest import need_tool
+    objdump = need_tool("avr-objdump")
+    dis = subprocess.run([objdump, "-d", str(simboard.firmware_path(build_dir))], capture_output=True, text=True,
+                         check=True).stdout
+    func, used_by = None, {}
+    for line in dis.splitlines():
+        if m := re.match(r"^[0-9a-f]+ <(.+)>:$", line):
+            func = m.group(1)
+        elif m := re.match(r"^\s+[0-9a-f]+:\t(?:[0-9a-f]{2} )+\s*\t(\S+)\s*([^;]*)", line):
+            regs = {int(r) for r in re.findall(r"\br(\d+)\b", m.group(2))}
+            if m.group(1) == "movw":                                    # names the low register of a pair
+                regs |= {r + 1 for r in regs}
+            if regs & set(range(2, 9)):
+                used_by.setdefault(func, set()).update(regs & set(range(2, 9)))
+    assert used_by.get("__vector_11") == set(range(2, 9)), used_by      # the check sees the handler's uses
+    assert set(used_by) == {"__vector_11"}, {f: r for f, r in used_by.items() if f != "__vector_11"}

@@ -6,10 +6,18 @@ the function the ``rowcast`` entry point calls; ``test_entry_point_on_a_few_muta
 entry point in a subprocess for a few. Every run must: exit 0, 1 or 2; print exactly one line on stderr
 for 2 and nothing on stderr otherwise (no traceback, no numpy RuntimeWarning); leave the input file
 byte for byte as it was and the folder with no new files. Bounded by ``max_examples`` (about a minute).
+
+The same mutants also go through the commands that write or send: ``export --c`` (a C header), ``import``
+(an image onto a mutated profile's panel; a mutated pattern given as the image) and ``stream`` to the
+in-process simulated receiver (``simrx://``, the pyserial URL handler rowcast registers), each with its
+documented statuses: export and import 0, 1 (one warning line, file still written) or 2 (nothing written);
+stream 0, 1 (the guard's lines), 2 or 3 (the port or the receiver). Stream plays unpaced (``Link.play`` with
+``paced=False``): a mutant's ``ms`` may be an hour, and pacing is not what is fuzzed here.
 """
 from __future__ import annotations
 
 import contextlib
+import functools
 import io
 import os
 import re
@@ -22,6 +30,7 @@ from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
 
 from composer.cli import main
+from transport.link import Link
 
 from conftest import PATTERNS, PROFILES
 
@@ -167,3 +176,103 @@ def test_entry_point_on_a_few_mutants(tmp_path):
         assert proc.stderr.count("\n") == 1 and "Traceback" not in proc.stderr, (name, proc.stderr)
         assert "\u202e" not in proc.stderr and "\x07" not in proc.stderr
         assert path.read_bytes() == data
+
+
+# export, import and stream: half the count above each (about 20 s for both at the default; most mutants stop at
+# the reader, about one pattern mutant in twenty and one profile mutant in five reach the receiver)
+_CLI_SETTINGS = settings(_SETTINGS, max_examples=max(1, _SETTINGS.max_examples // 2))
+_STREAM_LINE = re.compile(r"^(rowcast: |link: |.*: frame \d+: blocked by the guard: |.*: \d+ of \d+ frames over a limit)")
+
+
+@functools.cache
+def small_png(tmp: str) -> Path:
+    from PIL import Image
+    path = Path(tmp) / "import-me.png"
+    img = Image.new("RGB", (12, 6), "black")
+    for x in range(12):
+        img.putpixel((x, x % 6), ((255, 0, 0), (0, 255, 0), (255, 200, 0))[x % 3])
+    img.save(path)
+    return path
+
+
+def unpaced(monkeypatch) -> None:
+    monkeypatch.setattr(Link, "play", functools.partialmethod(Link.play, paced=False))
+
+
+def assert_written(status: int, err: str, args: list[str], out: Path) -> None:
+    """export / import: 0 quiet, 1 one warning line (the file is still written), 2 one line and no file."""
+    assert status in (0, 1, 2), (args, status, err)
+    assert "Traceback" not in err, (args, err)
+    if status == 0:
+        assert err == "" and out.exists(), (args, err)
+    else:
+        # 2: "rowcast: ..." and nothing written; 1: "rowcast export: files written, but ..." (or import)
+        assert err.count("\n") == 1 and err.startswith(("rowcast: ", f"rowcast {args[0]}: ")), (args, err)
+        assert len(err) < 1200 and out.exists() == (status == 1), (args, status, err)
+
+
+def assert_streamed(status: int, err: str, args: list[str]) -> None:
+    """stream: 0, 1, 2 or 3; 2 is one line; every line on stderr is a documented kind of line."""
+    assert status in (0, 1, 2, 3), (args, status, err)
+    assert "Traceback" not in err, (args, err)
+    if status == 2:
+        assert err.count("\n") == 1 and err.startswith("rowcast: ") and len(err) < 1200, (args, err)
+    for line in err.splitlines():
+        assert _STREAM_LINE.match(line), (args, line)
+    if status == 0:
+        assert "rowcast: " not in err, (args, err)
+
+
+def run_writer(args: list[str], out: Path) -> int:
+    """export or import writing ``out``: held to its statuses, then ``out`` (and a ``.bak``) removed."""
+    status, _, err = run_cli(args)
+    event(f"{args[0]} exit {status}")
+    assert_written(status, err, args, out)
+    for leftover in (out, out.with_name(out.name + ".bak")):
+        leftover.unlink(missing_ok=True)
+    return status
+
+
+def run_stream(args: list[str]) -> None:
+    status, _, err = run_cli(args)
+    event(f"stream exit {status}")
+    assert_streamed(status, err, args)
+
+
+def own_profile(name: str) -> str:
+    """The bundled profile a demo pattern names (the simulated receiver it streams to)."""
+    return re.search(rb'^profile = "([^"]+)"', PATTERN_TEXTS[name], re.M).group(1).decode()
+
+
+@_CLI_SETTINGS
+@given(mutant=mutants(PATTERN_TEXTS))
+def test_mutated_patterns_through_export_import_and_stream(tmp_path_factory, monkeypatch, mutant):
+    unpaced(monkeypatch)
+    folder = tmp_path_factory.mktemp("pattern-out")
+    name, data = mutant
+    path = folder / name
+    path.write_bytes(data)
+    before = snapshot(folder)
+    run_writer(["export", str(path), "--c", str(folder / "out.h")], folder / "out.h")
+    made = folder / "made.rowcast.toml"
+    assert run_writer(["import", str(path), "-o", str(made)], made) == 2    # a pattern is not an image
+    run_stream(["stream", str(path), "--port", "simrx://" + own_profile(name)])
+    assert snapshot(folder) == before
+
+
+@_CLI_SETTINGS
+@given(mutant=mutants(PROFILE_TEXTS))
+def test_mutated_profiles_through_export_import_and_stream(tmp_path_factory, monkeypatch, mutant):
+    unpaced(monkeypatch)
+    folder = tmp_path_factory.mktemp("profile-out")
+    name, data = mutant
+    path = folder / name
+    path.write_bytes(data)
+    before = snapshot(folder)
+    demo = str(PATTERNS / ("wide-march.rowcast.toml" if name.startswith("wide") else "kettle-ready.rowcast.toml"))
+    run_writer(["export", demo, "--profile", str(path), "--c", str(folder / "out.h")], folder / "out.h")
+    made = folder / "made.rowcast.toml"
+    image = small_png(str(tmp_path_factory.getbasetemp()))
+    run_writer(["import", str(image), "--profile", str(path), "-o", str(made)], made)
+    run_stream(["stream", demo, "--profile", str(path), "--port", "simrx://" + str(path)])
+    assert snapshot(folder) == before

@@ -69,6 +69,14 @@ class Tmux:
     def pid(self, name: str) -> int:
         return int(self.run("display-message", "-p", "-t", name, "#{pane_pid}").strip())
 
+    def quit(self, name: str) -> None:
+        """q, then the session must end (rowcast exits) within 10 s."""
+        self.keys(name, "q")
+        deadline = time.monotonic() + 10
+        while self.alive(name) and time.monotonic() < deadline:
+            time.sleep(0.1)
+        assert not self.alive(name), "rowcast did not quit"
+
     def close(self) -> None:
         self.run("kill-server", check=False)
 
@@ -112,11 +120,7 @@ def test_draw_add_frame_save_in_a_real_terminal(term, tmp_path):
     term.keys("ed", "C-s")
     screen = term.wait_for("ed", "saved /")
     assert "frame 1 of 2" in screen and _canvas_rows(screen)[1].startswith("· · ◆"), screen
-    term.keys("ed", "q")
-    deadline = time.monotonic() + 10
-    while term.alive("ed") and time.monotonic() < deadline:
-        time.sleep(0.1)
-    assert not term.alive("ed"), "rowcast did not quit"
+    term.quit("ed")
     doc = tomllib.loads(path.read_text(encoding="utf-8"))
     assert [f["leds"].splitlines()[0] for f in doc["frame"]] == ["rga.....", "........"]
     assert doc["frame"][1]["leds"].splitlines()[1] == "..a....."
@@ -192,11 +196,7 @@ def test_new_pattern_on_a_profile_file_then_another_profile(term, tmp_path):
     term.run("send-keys", "-t", "new", "-l", "signs/small")
     term.keys("new", "Enter")
     term.wait_for("new", "saved signs/small.rowcast.toml")
-    term.keys("new", "q")
-    deadline = time.monotonic() + 10
-    while term.alive("new") and time.monotonic() < deadline:
-        time.sleep(0.1)
-    assert not term.alive("new"), "rowcast did not quit"
+    term.quit("new")
     big = tomllib.loads((tmp_path / "signs" / "new.rowcast.toml").read_text(encoding="utf-8"))
     small = tomllib.loads((tmp_path / "signs" / "small.rowcast.toml").read_text(encoding="utf-8"))
     assert big["profile"] == "../work/my-panel.toml" and small["profile"] == "bench-8x8"
@@ -206,3 +206,48 @@ def test_new_pattern_on_a_profile_file_then_another_profile(term, tmp_path):
         done = subprocess.run([rowcast, "check", str(tmp_path / "signs" / f"{name}.rowcast.toml")],
                               capture_output=True, text=True, timeout=60, cwd="/")
         assert done.returncode in (0, 1), done.stderr
+
+
+def test_pick_by_colour_and_panel_size_at_80x24(term, tmp_path):
+    """M picks the green LEDs, L moves only them, del turns them off, z brings them back; G makes the
+    8x8 pattern 16x8 on the bundled 16x8 profile, anchored left; saved and read back with tomllib.
+    The footer keeps "q quit" and the tool line shows every mode whole at 80x24."""
+    rowcast = need_tool("rowcast")
+    path = tmp_path / "door.rowcast.toml"
+    anim = Animation.blank(8, 8, name="door", profile="bench-8x8")
+    anim.frames[0, 0, :3] = [2, 1, 2]                                    # green, red, green in row 0
+    save_pattern(anim, path)
+    term.start("sel", f"{rowcast} edit {shlex.quote(str(path))}", _env(tmp_path))
+    screen = term.wait_for("sel", "door")
+    assert "q quit" in screen.splitlines()[-1], screen
+    term.keys("sel", "M")
+    term.wait_for("sel", "Pick LEDs by colour")
+    term.keys("sel", "Enter")                                            # green: the colour under the cursor
+    screen = term.wait_for("sel", "picked 2 green LEDs")
+    term.keys("sel", "L")                                                # only the green LEDs move right
+    screen = term.wait_for("sel", "unsaved")
+    assert _canvas_rows(screen)[0].startswith("· ▲ · ▲"), screen         # the red one under a green: covered
+    term.keys("sel", "z")
+    screen = term.wait_for("sel", "undo shift")
+    assert _canvas_rows(screen)[0].startswith("▲ ● ▲ ·"), screen
+    term.keys("sel", "DC")                                               # the Delete key
+    screen = term.wait_for("sel", "turn off (green LEDs picked)")
+    assert _canvas_rows(screen)[0].startswith("· ● · ·"), screen
+    term.keys("sel", "Escape", gap=0.5)                                  # alone: not read as alt+G
+    term.keys("sel", "G")
+    term.wait_for("sel", "Change the panel size")
+    term.keys("sel", "C-u")
+    term.run("send-keys", "-t", "sel", "-l", "16x8")
+    term.keys("sel", "Enter")
+    term.wait_for("sel", "A profile of 16x8")
+    term.keys("sel", "Enter")                                            # wide-16x8, the only bundled one
+    term.wait_for("sel", "Which part of the picture stays")
+    term.keys("sel", "Up", "Up", "Up", "Up", "Enter")                    # from centre up the list to "top-left"
+    screen = term.wait_for("sel", "wide-16x8 16x8")
+    assert "q quit" in screen.splitlines()[-1], screen
+    term.keys("sel", "C-s")
+    term.wait_for("sel", "saved /")
+    term.quit("sel")
+    doc = tomllib.loads(path.read_text(encoding="utf-8"))
+    assert doc["profile"] == "wide-16x8"
+    assert doc["frame"][0]["leds"].splitlines() == [".r" + "." * 14] + ["." * 16] * 7

@@ -303,3 +303,55 @@ async def test_text_dialog_options_and_a_checked_fix(tmp_path):
         await pilot.press("escape")                       # escape leaves the dialog from the message field
         await pilot.pause()
         assert isinstance(app.screen, EditorScreen)
+
+
+@async_test
+async def test_panel_size_command_pads_on_a_profile_of_that_size(tmp_path):
+    """G: columns x rows, a profile of that size, the anchor; undo, redo, saved and reopened."""
+    path = make_pattern(tmp_path, frames=2, seed=21)
+    before = load_pattern(path).frames.copy()
+    app = app_for(path)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        ed = editor(app)
+        s = ed.session
+        await pilot.press("G")
+        await pilot.pause()
+        assert app.screen.id == "ask-size" and "columns x rows, now 8x8" in screen_text(app)
+        await type_in(pilot, app, "8x8")                                  # the size it has: said, nothing done
+        assert app.screen.id == "ask-size" and "already 8x8" in screen_text(app)
+        await type_in(pilot, app, "sixteen")
+        assert "columns x rows, e.g. 16x8" in screen_text(app)
+        await type_in(pilot, app, "16x8")                                 # 16 columns, 8 rows
+        assert app.screen.id == "pick-sized-profile"
+        from textual.widgets import OptionList
+        options = app.screen.query_one(OptionList)
+        offered = [options.get_option_at_index(i).id for i in range(options.option_count)]
+        assert offered == ["wide-16x8", "@file"]                          # only the bundled 16x8 profile
+        await pick(pilot, app, "wide-16x8")
+        await pick(pilot, app, "left")
+        want = np.zeros((2, 8, 16), np.uint8)
+        want[:, :, :8] = before                                           # anchored left: padding on the right
+        assert s.profile.name == "wide-16x8" and np.array_equal(s.anim.frames, want)
+        assert ed.canvas.frame.shape == (8, 16)
+        await pilot.press("z")
+        await pilot.pause()
+        assert s.profile.name == "bench-8x8" and np.array_equal(s.anim.frames, before)
+        await pilot.press("Z", "ctrl+s")
+        await pilot.pause()
+        # no bundled profile of 12x8: the dialog says so; a profile file of another size is refused
+        await pilot.press("G")
+        await pilot.pause()
+        await type_in(pilot, app, "12 x 8")
+        assert "no bundled profile is 12x8" in " ".join(screen_text(app).split())
+        await pick(pilot, app, "@file")
+        mine = own_profile(tmp_path)
+        await type_in(pilot, app, str(mine))
+        assert app.screen.id == "ask-profile-file" and "is 8x8, not 12x8" in screen_text(app)
+        await pilot.press("escape")
+        await pilot.pause()
+        assert isinstance(app.screen, EditorScreen) and s.profile.name == "wide-16x8"
+    anim, profile = open_pattern(path)
+    assert profile.name == "wide-16x8" and np.array_equal(anim.frames, want)
+    assert tomllib.loads(path.read_text())["profile"] == "wide-16x8"
+    assert rowcast_check(path).returncode in (0, 1)                       # the saved file reopens from the CLI

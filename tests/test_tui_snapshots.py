@@ -97,3 +97,33 @@ def test_over_limit_frame(snap_compare, tmp_path, monkeypatch, size):
         await pilot.pause(0.1)
 
     assert snap_compare(app_for(Path("over.rowcast.toml")), terminal_size=size, run_before=over_frame_with_its_fix)
+
+
+@pytest.mark.parametrize("size", SIZES, ids=lambda s: f"{s[0]}x{s[1]}")
+def test_picked_leds(snap_compare, demo_copy, size):
+    """Green LEDs picked by colour (underlined), shifted right, with every mode of the tool line on."""
+    async def picked(pilot):
+        await _settle(pilot)
+        await pilot.press("w", "A", "M")
+        await pilot.pause()
+        from textual.widgets import OptionList
+        options = pilot.app.screen.query_one(OptionList)
+        options.highlighted = [options.get_option_at_index(i).id for i in range(options.option_count)].index("2")
+        await pilot.press("enter", "L", "c")
+        await _settle(pilot)
+
+    assert snap_compare(app_for(demo_copy), terminal_size=size, run_before=picked)
+
+
+@pytest.mark.parametrize("size", SIZES, ids=lambda s: f"{s[0]}x{s[1]}")
+def test_panel_size_dialog(snap_compare, demo_copy, size):
+    """G, then a size no bundled profile has: the dialog says what a pattern of that size needs."""
+    async def asked(pilot):
+        await _settle(pilot)
+        await pilot.press("G")
+        await pilot.pause()
+        pilot.app.screen.query_one("#ask-input").value = "12x8"
+        await pilot.press("enter")
+        await pilot.pause(0.2)
+
+    assert snap_compare(app_for(demo_copy), terminal_size=size, run_before=asked)

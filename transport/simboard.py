@@ -3,7 +3,7 @@
 ``firmware_stub/`` holds the firmware and the simavr harness (a C program linking simavr's library).
 This module is the Python side used by ``rowcast sim`` and the simulator-in-the-loop tests::
 
-    build_dir = build(BUILD_DEFAULT)                    # make firmware + harness (if out of date)
+    build_dir = build(tmp_folder)                       # make firmware + harness (if out of date)
     with SimBoard.start(profile, build_dir=build_dir, records=path) as board:
         link = Link(board.port, profile); ...            # the pty is a serial port like any other
         board.mark("frames sent"); board.stall()
@@ -27,11 +27,10 @@ from composer.errors import LinkError
 from composer.profile import Profile
 from composer.wiring import chain_to_shift_order
 
-__all__ = ["FIRMWARE_DIR", "BUILD_DEFAULT", "F_CPU", "build", "harness_path", "firmware_path", "SimBoard",
+__all__ = ["FIRMWARE_DIR", "F_CPU", "build", "harness_path", "firmware_path", "SimBoard",
            "Records", "IsrStat", "read_records", "parse_records", "latched_shift_bytes", "tools_missing"]
 
 FIRMWARE_DIR = data_path("transport.firmware_stub")
-BUILD_DEFAULT = FIRMWARE_DIR / "build"
 F_CPU = 16_000_000          # the board layer's clock (firmware_stub/board/avr328p)
 PREFIX = "@rc "
 _TOOLS = ("make", "avr-gcc", "avr-objcopy", "avr-size", "gcc")
@@ -45,17 +44,19 @@ def tools_missing() -> list[str]:
     return missing
 
 
-def harness_path(build_dir: Path = BUILD_DEFAULT) -> Path:
+def harness_path(build_dir: Path) -> Path:
     return Path(build_dir) / "rowcast-harness"
 
 
-def firmware_path(build_dir: Path = BUILD_DEFAULT) -> Path:
+def firmware_path(build_dir: Path) -> Path:
     return Path(build_dir) / "rowcast-receiver.elf"
 
 
-def build(build_dir: Path = BUILD_DEFAULT, targets: tuple[str, ...] = ("firmware", "harness"),
+def build(build_dir: Path, targets: tuple[str, ...] = ("firmware", "harness"),
           make_vars: tuple[str, ...] = ()) -> Path:
     """Run ``make`` in firmware_stub/ for ``targets`` into ``build_dir``; returns ``build_dir``.
+    There is no default folder: the sources may be an installed, read-only package (``rowcast sim`` uses
+    the user's cache folder, ``transport.simcache``; tests use a temporary one).
     ``make_vars``: e.g. ``("ROWS=8", "BYTES_PER_ROW=12")`` for another capacity (firmware_stub/Makefile)."""
     missing = tools_missing()
     if missing:
@@ -77,8 +78,7 @@ class SimBoard:
         self.link = link            # a symlink to it, if asked for
 
     @classmethod
-    def start(cls, profile: Profile | None = None, *, registers: int | None = None,
-              build_dir: Path = BUILD_DEFAULT, records: Path | None = None, link: Path | None = None,
+    def start(cls, profile: Profile | None = None, *, build_dir: Path, registers: int | None = None, records: Path | None = None, link: Path | None = None,
               realtime: bool = False, max_cycles: int = 0, timeout: float = 10.0,
               spi_bits: bool = False, firmware: Path | None = None) -> "SimBoard":
         """``spi_bits``: also record every byte as it left on the serial data line (``Records.spi_bits``).
@@ -88,7 +88,7 @@ class SimBoard:
         harness, elf = harness_path(build_dir), Path(firmware) if firmware is not None else firmware_path(build_dir)
         for need in (harness, elf):
             if not need.exists():
-                raise LinkError(f"{need}: not built (run make -C firmware_stub firmware harness)")
+                raise LinkError(f"{need}: not built (build() it first; rowcast sim builds into its cache folder)")
         cmd = [str(harness), str(elf), "--registers", str(registers), "--commands"]
         if records is not None:
             cmd += ["--records", str(records)]

@@ -141,7 +141,10 @@ def _worst_flashes(lazy: "_Lazy", which: int, share: np.ndarray, times: np.ndarr
     if bound.max() < 2 * MAX_FLASHES_PER_S + 1:
         return float(np.floor(bound.max())) / 2.0
     hot = np.flatnonzero(bound >= 2 * MAX_FLASHES_PER_S + 1)
-    per_led = np.zeros((index.size + 1, n_leds), dtype=np.int32)
+    # Running counts in uint16 while they cannot pass 65535 (fewer boundaries than that), else int32: half
+    # the memory for the usual sizes, and the fresh pages cost more than the sum itself
+    per_led = np.empty((index.size + 1, n_leds), dtype=np.uint16 if index.size < 2 ** 16 else np.int32)
+    per_led[0] = 0
     np.cumsum(lazy[which][index], axis=0, out=per_led[1:])
     counts = per_led[ends[hot]] - per_led[starts[hot]]        # (hot windows, LEDs)
     kth = np.partition(counts, n_leds - need, axis=1)[:, n_leds - need]

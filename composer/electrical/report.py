@@ -13,7 +13,9 @@ from .timing import Timing
 
 __all__ = ["Report", "Verdict", "JSON_FORMAT"]
 
-JSON_FORMAT = "rowcast-check/1"
+# /2: frames[] of one object per frame became "frames", one list per key (entry i for frame i), with the
+# frame-level violations in one list; each frame's supply_peak_ma (always its worst_row_ma) is left out
+JSON_FORMAT = "rowcast-check/2"
 
 
 def _r(x: float, nd: int = 4) -> float | None:
@@ -70,6 +72,9 @@ class Report:
     # over the whole animation (composer.electrical.light.uniformity)
     led_uniformity: np.ndarray = field(default=None)
     led_uniformity_all: np.ndarray = field(default=None)
+    # (c1*c1,) bool: which (lit red, lit green) row counts occur, index n_red * (cols + 1) + n_green; it is all
+    # an LED current depends on, so other corners' LED ranges need no second pass (engine.led_ma_range_at)
+    lit_pairs: np.ndarray | None = field(default=None, repr=False)
     # computed on first use of row_utilisation (the composer's bars need it, a check of 10,000 frames not)
     row_utilisation_of: Callable[[], np.ndarray] | None = field(default=None, repr=False, compare=False)
 
@@ -124,42 +129,31 @@ class Report:
         return {c: [_r(np.nanmin(self.led_ma_min[:, k], initial=np.inf)),
                     _r(np.nanmax(self.led_ma_max[:, k], initial=-np.inf))] for k, c in enumerate(("red", "green"))}
 
+    def frames_json(self) -> dict:
+        """The per-frame figures as columns: one list per key, entry i for frame i, numbers rounded a whole
+        array at a time. A 10,000-frame report is then a few dozen lists, not 10,000 objects of 18 keys
+        (three times smaller, and built and written about four times faster)."""
+        return {
+            "ms": self.durations_ms.tolist(),
+            "worst_row": self.worst_row.tolist(),
+            "worst_row_ma": _rl(self.worst_row_ma),
+            "row_ma": _rl(self.row_ma),
+            "pin_ma_max": _rl(self.pin_ma_max),
+            "package_ma_max": _rl(self.package_ma_max),
+            "supply_avg_ma": _rl(self.supply_avg_ma),
+            "led_ma_range": {c: {"min": _rl(self.led_ma_min[:, k]), "max": _rl(self.led_ma_max[:, k])}
+                             for k, c in enumerate(("red", "green"))},
+            "led_uniformity": {c: _rl(self.led_uniformity[:, k]) for k, c in enumerate(("red", "green"))},
+            "driver_tj_c": _rl(self.driver_tj_c, 2),
+            "resistor_w_max": _rl(self.resistor_w_max, 6),
+            "stuck_scan_over": self.stuck_scan.tolist(),
+            "utilisation": {rule: _rl(u) for rule, u in self.rule_utilisation.items()},
+            "binding": [self.rules[k] for k in self.binding_index.tolist()],
+            "ok": self.frame_ok.tolist(),
+            "violations": [v.to_json() for v in self.violations if v.frame is not None],
+        }
+
     def to_json(self) -> dict:
-        by_frame: dict[int, list[dict]] = {}
-        for v in self.violations:
-            if v.frame is not None:
-                by_frame.setdefault(v.frame, []).append(v.to_json())
-        worst_ma, pin, pkg, peak, avg = (_rl(a) for a in (self.worst_row_ma, self.pin_ma_max, self.package_ma_max,
-                                                          self.supply_peak_ma, self.supply_avg_ma))
-        row_ma, led_min, led_max = _rl(self.row_ma), _rl(self.led_ma_min), _rl(self.led_ma_max)
-        tj, res_w, unif = _rl(self.driver_tj_c, 2), _rl(self.resistor_w_max, 6), _rl(self.led_uniformity)
-        rules = list(self.rule_utilisation)
-        util = list(zip(*(_rl(u) for u in self.rule_utilisation.values()))) if rules else [()] * self.n_frames
-        binding = [self.rules[k] for k in self.binding_index.tolist()]
-        ms, worst_row = self.durations_ms.tolist(), self.worst_row.tolist()
-        stuck, ok = self.stuck_scan.tolist(), self.frame_ok.tolist()
-        frames = []
-        for i in range(self.n_frames):
-            frames.append({
-                "index": i,
-                "ms": ms[i],
-                "worst_row": worst_row[i],
-                "worst_row_ma": worst_ma[i],
-                "row_ma": row_ma[i],
-                "pin_ma_max": pin[i],
-                "package_ma_max": pkg[i],
-                "supply_peak_ma": peak[i],
-                "supply_avg_ma": avg[i],
-                "led_ma_range": {"red": [led_min[i][0], led_max[i][0]], "green": [led_min[i][1], led_max[i][1]]},
-                "led_uniformity": {"red": unif[i][0], "green": unif[i][1]},
-                "driver_tj_c": tj[i],
-                "resistor_w_max": res_w[i],
-                "stuck_scan_over": stuck[i],
-                "utilisation": dict(zip(rules, util[i])),
-                "binding": binding[i],
-                "ok": ok[i],
-                "violations": by_frame.get(i, []),
-            })
         t = self.timing
         weights = self.durations_ms / self.durations_ms.sum()
         flash = self.flash
@@ -193,7 +187,7 @@ class Report:
                 "parts": {part: int(mask.sum()) for part, mask in self.stuck_parts.items()}},
             "violations": [v.to_json() for v in self.violations if v.frame is None],
         }
-        return {"format": JSON_FORMAT, "summary": summary, "frames": frames}
+        return {"format": JSON_FORMAT, "summary": summary, "frames": self.frames_json()}
 
 
 @dataclass(frozen=True)

@@ -1,10 +1,11 @@
 """How fast the receiver firmware can scan a panel: the shortest row period it sustains and the refresh
 that gives, beside the flicker regions, so a builder can pick a row period.
 
-The receiver's row interrupt (``firmware_stub/core/scan.h`` in the board's timer interrupt) costs a fixed
-part plus a part per byte of the row slot it shifts. Both numbers are measured in simavr
-(``tests/bench/bench_firmware.py`` prints them; ``tests/test_firmware_sim.py`` fails when the firmware
-no longer matches them), so this module states what the firmware in this tree does, not a guess.
+The receiver's row interrupt (``firmware_stub/board/avr328p/row_tick.c``, the steps of
+``firmware_stub/core/scan.h`` written instruction by instruction) costs a fixed part plus a part per byte of
+the row slot it shifts. Both numbers are measured in simavr (``tests/bench/bench_firmware.py`` prints them;
+``tests/test_tiled.py`` fails when the firmware no longer matches them), so this module states what the
+firmware in this tree does, not a guess.
 
 "Sustains" means the scan takes at most :data:`SCAN_CPU_SHARE` of the core: the rest of the time the main
 loop decodes the serial stream (a FRAME of the 32 x 16 sign arrives every few milliseconds at 1 Mbaud).
@@ -18,15 +19,24 @@ from ..profile import Profile
 from .timing import flicker_region
 
 __all__ = ["ScanSpeed", "scan_speed", "row_irq_cycles", "F_CPU_HZ", "ROW_IRQ_BASE_CYCLES",
-           "ROW_IRQ_CYCLES_PER_BYTE", "SCAN_CPU_SHARE", "MIN_ROW_PERIOD_US", "LOW_RISK_HZ", "NO_EFFECT_HZ"]
+           "ROW_IRQ_CYCLES_PER_BYTE", "BLANK_END_CYCLES", "LIGHT_AT_ONCE_CYCLES", "SCAN_CPU_SHARE",
+           "MIN_ROW_PERIOD_US", "LOW_RISK_HZ", "NO_EFFECT_HZ"]
 
 F_CPU_HZ = 16_000_000          # firmware_stub/Makefile F_CPU: an ATmega328P-class board at 16 MHz
 # Mean cycles of one row interrupt for B bytes a slot: BASE + PER_BYTE * B (interrupt response and RETI
-# included; the once-a-scan frame swap spread over the scan). Measured in simavr: 162 for 3 bytes,
-# 198 for 5, 287 for 10: the shift writes a byte every 18 cycles against the SPI's 16 (board_impl.h);
-# the fixed part is the register saves, blanking, latch, end-of-blanking timer and slot bookkeeping.
-ROW_IRQ_BASE_CYCLES = 108
-ROW_IRQ_CYCLES_PER_BYTE = 18
+# included; the once-a-scan frame swap spread over the scan). Measured in simavr with a short blanking:
+# 79 for 3 bytes, 113 for 5, 196.5 for 10 (tests/bench/bench_firmware.py; 162, 198 and 287 before the
+# hand-written interrupt): the shift writes a byte every 17 cycles against the SPI's 16
+# (firmware_stub/board/avr328p/row_tick.c); the fixed part is the blanking, latch, end-of-blanking timer,
+# watchdog and slot bookkeeping that do not fit in the gaps, and the return.
+ROW_IRQ_BASE_CYCLES = 28
+ROW_IRQ_CYCLES_PER_BYTE = 17
+# A blanking longer than LIGHT_AT_ONCE_CYCLES (firmware_stub/board/avr328p/board_impl.h) ends in a
+# second, three-instruction interrupt: 4 cycles of response, JMP 3, SBIC 1, CBI 2, RETI 4 (ATmega328P
+# data sheet, "Interrupt Response Time" and instruction set summary, from memory). A shorter one ends
+# inside the row interrupt at no extra cost.
+BLANK_END_CYCLES = 14
+LIGHT_AT_ONCE_CYCLES = 40
 SCAN_CPU_SHARE = 0.30          # the scan's share of the core this project holds the firmware to
 MIN_ROW_PERIOD_US = 20         # firmware_stub/core/config.h RC_MIN_ROW_PERIOD_US: CONFIGURE refuses less
 # IEEE Std 1789-2015 for 100 % modulation (see timing.flicker_region; from memory): low risk above
@@ -35,15 +45,18 @@ LOW_RISK_HZ = 1250.0
 NO_EFFECT_HZ = 3000.0
 
 
-def row_irq_cycles(bytes_per_row: int) -> float:
-    return ROW_IRQ_BASE_CYCLES + ROW_IRQ_CYCLES_PER_BYTE * bytes_per_row
+def row_irq_cycles(bytes_per_row: int, blanking_us: float = 0.0) -> float:
+    """Cycles the scan takes each row: the row interrupt and, for a long blanking, the end-of-blanking one."""
+    # The firmware rounds the blanking up to whole cycles (board_tick_start).
+    long_blank = math.ceil(round(blanking_us * F_CPU_HZ / 1e6, 6)) > LIGHT_AT_ONCE_CYCLES
+    return ROW_IRQ_BASE_CYCLES + ROW_IRQ_CYCLES_PER_BYTE * bytes_per_row + (BLANK_END_CYCLES if long_blank else 0)
 
 
 @dataclass(frozen=True)
 class ScanSpeed:
     rows: int
     bytes_per_row: int
-    irq_cycles: float              # one row interrupt
+    irq_cycles: float              # the scan's cycles a row (row interrupt, end-of-blanking interrupt)
     cpu_share_max: float
     fastest_row_period_us: float   # the shortest the receiver sustains
     fastest_refresh_hz: float
@@ -62,8 +75,11 @@ class ScanSpeed:
     def lines(self) -> list[str]:
         """Three report lines: what the receiver sustains, where the profile stands, what to aim for."""
         return [
-            f"fastest scan: row interrupt about {self.irq_cycles:.0f} cycles for {self.bytes_per_row} bytes a slot "
-            f"({ROW_IRQ_BASE_CYCLES} + {ROW_IRQ_CYCLES_PER_BYTE} a byte at {F_CPU_HZ / 1e6:g} MHz, simavr); within "
+            f"fastest scan: about {self.irq_cycles:.0f} cycles a row for {self.bytes_per_row} bytes a slot "
+            f"({ROW_IRQ_BASE_CYCLES} + {ROW_IRQ_CYCLES_PER_BYTE} a byte"
+            + (f" + {BLANK_END_CYCLES} to end the blanking" if self.irq_cycles
+               > ROW_IRQ_BASE_CYCLES + ROW_IRQ_CYCLES_PER_BYTE * self.bytes_per_row else "")
+            + f" at {F_CPU_HZ / 1e6:g} MHz, simavr); within "
             f"{100 * self.cpu_share_max:.0f} % of the core: rows of {self.fastest_row_period_us:.1f} us or longer, "
             f"{self.fastest_refresh_hz:.0f} Hz refresh ({self.fastest_region})",
             f"this scan: {self.row_period_us:g} us rows, {self.refresh_hz:.0f} Hz ({self.region}), scan "
@@ -77,7 +93,7 @@ class ScanSpeed:
 
 def scan_speed(profile: Profile) -> ScanSpeed:
     rows, nbytes = profile.rows, profile.n_registers
-    cycles = row_irq_cycles(nbytes)
+    cycles = row_irq_cycles(nbytes, profile.scan.blanking_us)
     # Rounded up to 0.1 us, the resolution the report prints, so "sustained" never rounds the wrong way.
     fastest = max(float(MIN_ROW_PERIOD_US), profile.scan.blanking_us + 0.1,
                   math.ceil(cycles / (SCAN_CPU_SHARE * F_CPU_HZ) * 1e7) / 10)

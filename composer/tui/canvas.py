@@ -6,7 +6,8 @@ NO_COLOR terminals: off ``·`` (dim), red ``●``, green ``▲``, amber ``◆``.
 LEDs a line) draws half blocks by colour; without colour it draws quadrant blocks instead, whose
 shapes tell the states apart (see ``_QUADRANTS``). With the onion skin on,
 an off LED that was lit in the previous frame shows that frame's hollow glyph (``○ △ ◇``, dim).
-The cursor is drawn in inverse colours, the region between the mark and the cursor underlined.
+The cursor is drawn in inverse colours, the selection (the region between the mark and the cursor, or
+the LEDs picked by colour) underlined.
 
 As lit (``shade``, from :func:`lit_shades`): in a true-colour terminal each lit LED takes the colour
 the light model gives it; in 256/16-colour and NO_COLOR terminals the glyphs stay and the lightness
@@ -235,7 +236,7 @@ class LedView(Widget):
 
     def on_resize(self) -> None:
         if self.FIT and self.parent is not None and self.parent.size.width:
-            room = self.parent.size.width
+            room = self.parent.scrollable_content_region.width   # without a scrollbar the pane grew
             cols = self._codes.shape[1]
             fits = next((m for m in MODES if GUTTER_W + _CELL_W[m] * cols + 2 <= room), MODES[-1])
             if fits != self.mode:
@@ -479,13 +480,17 @@ class LedCanvas(LedView, can_focus=True):
         self._onion: np.ndarray | None = None
         self.cursor = (0, 0)
         self.mark: tuple[int, int] | None = None
+        self.picked: np.ndarray | None = None
 
     def show_state(self, frame: np.ndarray, onion: np.ndarray | None, cursor: tuple[int, int],
-                   mark: tuple[int, int] | None, shade: np.ndarray | None = None) -> None:
+                   mark: tuple[int, int] | None, shade: np.ndarray | None = None,
+                   picked: np.ndarray | None = None) -> None:
+        """``picked``: a bool mask of LEDs picked by colour, drawn as the selection instead of the region."""
         self._frame = np.array(frame, np.uint8)
         self._shade = shade
         self._onion = None if onion is None else np.array(onion, np.uint8)
         self.cursor, self.mark = cursor, mark
+        self.picked = picked if picked is not None and picked.shape == self._frame.shape else None
         self.follow_cursor()
         self._update_codes()
 
@@ -495,7 +500,9 @@ class LedCanvas(LedView, can_focus=True):
             lit_before = (self._onion != OFF) & (self._frame == OFF)
             codes |= np.where(lit_before, _ONION | (self._onion.astype(np.uint32) << 5), 0).astype(np.uint32)
         r, c = self.cursor
-        if self.mark is not None:
+        if self.picked is not None:
+            codes[self.picked] |= _REGION
+        elif self.mark is not None:
             (mr, mc) = self.mark
             codes[min(r, mr):max(r, mr) + 1, min(c, mc):max(c, mc) + 1] |= _REGION
         codes[r, c] |= _CURSOR

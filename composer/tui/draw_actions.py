@@ -11,6 +11,10 @@ if TYPE_CHECKING:
 else:
     _Editor = object
 
+from ..errors import RowcastError
+from .canvas import GLYPH
+from .session import BRUSH_NAMES
+
 __all__ = ["DrawActions"]
 
 
@@ -68,12 +72,41 @@ class DrawActions(_Editor):
     def action_mark(self) -> None:
         s = self.session
         s.mark = None if s.mark is not None else s.cursor
+        s.leds = None                          # one selection at a time: the region or the picked LEDs
         self.redraw(readout=False)
 
     def action_unmark(self) -> None:
-        if self.session.mark is not None:
-            self.session.mark = None
+        if self.session.unpick():
             self.redraw(readout=False)
+
+    def action_pick_leds(self) -> None:
+        """Pick every LED of a colour: the colour under the cursor is offered first."""
+        from ..model import AMBER, STATES
+        from .dialogs import PickOne
+        s = self.session
+        where = "in the region" if s.mark is not None else "in this frame" + (
+            " and the picked frames" if s.selected else "")
+        options = [(str(state), f"{GLYPH[state]} {BRUSH_NAMES[state]}" + (" (red and green)" if state == AMBER else ""))
+                   for state in STATES[1:] + STATES[:1]]
+
+        def picked(key: str | None) -> None:
+            if key is None:
+                return
+            try:
+                said = s.pick_colour(int(key))
+            except RowcastError as err:
+                self.say(str(err), error=True)
+                self.app.bell()
+                return
+            self.redraw(readout=False)
+            self.say(said)
+
+        under = int(s.frame[s.cursor])
+        self.app.push_screen(PickOne("Pick LEDs by colour", f"every LED of this colour {where} becomes the "
+                                     "selection", options, highlight=str(under), id="pick-colour"), picked)
+
+    def action_delete_selected(self) -> None:
+        self.run_edit(self.session.delete_selected)
 
     def action_line(self) -> None:
         self.run_edit(self.session.line)

@@ -30,6 +30,7 @@ from .pattern_actions import PatternActions
 from .readout import Readout
 from .session import ALL, BRUSH_NAMES, Edited, Session
 from .startup import Startup
+from .toolline import ToolLine
 
 __all__ = ["EditorScreen"]
 
@@ -53,7 +54,7 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         self._autosaved_serial = session.history.serial
         self.animation_notes: list[str] = []
         self.message = ""
-        self._lines: dict[str, str] = {}
+        self._lines: dict[str, object] = {}      # what each fixed line shows now
         self._guard_cache: dict[tuple[int, bytes], str] = {}
         self._cursor_cache: dict[str, tuple] = {}            # per-LED currents of the frame shown
         self._fix_cache: dict[object, object] = {}            # fixes by frame content / pattern serial
@@ -65,13 +66,13 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         with Horizontal(id="main"):
             with Vertical(id="left"):
                 yield LedCanvas(anim.rows, anim.cols, id="canvas", spare_lines=2)   # the tool line
-                yield Static("", id="tool", markup=False)
+                yield ToolLine(self._tool_lines, id="tool")
             with VerticalScroll(id="readout-pane"):
                 yield Readout(id="readout")
             yield self._make_link_panel()
         yield FrameStrip(id="frames")
         yield Static("", id="status", markup=False)
-        yield Footer()
+        yield Footer(compact=True)      # compact: room for every footer key and "q quit" at 80x24
 
     def _make_link_panel(self):
         from .linkpanel import LinkPanel
@@ -101,7 +102,7 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
     def redraw(self, *, full: bool = False, readout: bool = True) -> None:
         s = self.session
         onion = s.previous_frame if self.onion else None
-        self.canvas.show_state(s.frame, onion, s.cursor, s.mark, self.lit_shade(s.frame))
+        self.canvas.show_state(s.frame, onion, s.cursor, s.mark, self.lit_shade(s.frame), s.picked_mask())
         self.query_one(FrameStrip).update_frames(s.anim.durations_ms, self.checks.verdicts(), s.current,
                                                  s.selected, self.playing, self.checks.utilisations())
         if readout or full:
@@ -130,6 +131,9 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
             flags.append("PEN")
         if s.mark is not None:
             flags.append(f"mark row {s.mark[0]} col {s.mark[1]}")
+        if s.picked_mask() is not None:
+            n, frames = s.leds.count(s.current), len(s.leds.masks)
+            flags.append(f"picked {n} {BRUSH_NAMES[s.leds.colour]} LEDs" + (f" in {frames} frames" if frames > 1 else ""))
         if s.wrap:
             flags.append("wrap")
         if self.canvas.mode != "normal":
@@ -139,8 +143,15 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         if self.lit_corner is not None:
             flags.append(f"as lit {self.lit_corner}")
         if s.clipboard is not None:
-            flags.append(f"clip {s.clipboard.shape[0]}x{s.clipboard.shape[1]}")
-        self._set_line("#tool", " · ".join(flags))
+            flags.append(f"clip {size_text(*s.clipboard.shape)}")
+        if self._lines.get("#tool") != flags:
+            self._lines["#tool"] = flags
+            self.query_one(ToolLine).show(flags)
+
+    def _tool_lines(self, n: int) -> None:
+        """The tool line needs ``n`` lines: the canvas leaves them free."""
+        self.canvas.spare_lines = n
+        self.canvas.refresh(layout=True)
 
     def _set_line(self, selector: str, text: str) -> None:
         """Fixed-height lines: no layout pass needed, and none at all when the text is unchanged."""

@@ -2,13 +2,17 @@
 help, the command palette and the README check)."""
 from __future__ import annotations
 
+import textwrap
+
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
 from textual.screen import ModalScreen
-from textual.widgets import Label, Static
+from textual.widgets import Static
 
 __all__ = ["HelpScreen", "key_label"]
+
+_DESC_AT = 21          # where descriptions start: two spaces, an 18-character key column, a space
 
 _NAMES = {"space": "space", "left": "←", "right": "→", "up": "↑", "down": "↓", "shift+left": "shift+←",
           "shift+right": "shift+→", "shift+up": "shift+↑", "shift+down": "shift+↓",
@@ -35,10 +39,25 @@ class HelpScreen(ModalScreen[None]):
 
     def compose(self) -> ComposeResult:
         with Vertical(id="help-box"):
-            yield Label("rowcast composer · keys (escape closes; ctrl+p finds any action by name)",
-                        id="help-title")
+            yield Static("rowcast composer · keys (escape closes; ctrl+p finds any action by name)",
+                         id="help-title", markup=False)
             with VerticalScroll(id="help-body"):
                 for title, bindings in self._groups:
-                    yield Label(title, classes="help-group")
-                    lines = [f"  {key_label(keys):<18} {text}" for keys, _action, text, _show in bindings]
-                    yield Static("\n".join(lines), classes="help-keys", markup=False)
+                    yield Static(title, classes="help-group", markup=False)
+                    yield Static(self._lines(bindings, 200), classes="help-keys", markup=False)
+
+    @staticmethod
+    def _lines(bindings, width: int) -> str:
+        """Key and description a line; a description too long for ``width`` wraps under itself."""
+        lines = []
+        for keys, _action, text, _show in bindings:
+            parts = textwrap.wrap(text, max(20, width - _DESC_AT)) or [""]
+            lines.append(f"  {key_label(keys):<18} {parts[0]}")
+            lines += [" " * _DESC_AT + more for more in parts[1:]]
+        return "\n".join(lines)
+
+    def on_resize(self) -> None:
+        width = self.query_one("#help-body").scrollable_content_region.width
+        if width:
+            for static, (_title, bindings) in zip(self.query(".help-keys").results(Static), self._groups):
+                static.update(self._lines(bindings, width))

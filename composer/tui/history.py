@@ -2,13 +2,14 @@
 
 A change stores only what it touched: one frame (before and after) for drawing, or the whole
 frame stack and durations for frame-list edits (add, delete, move, durations), plus the profile
-on each side when the edit changed the panel. Undo applies the
+on each side when the edit changed the panel, and the LEDs picked by colour on each side when the
+edit moved them. Undo applies the
 "before" side, redo the "after" side, each also restoring which frame was on the canvas.
 The position at the last save tells whether there are unsaved changes.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
@@ -28,6 +29,8 @@ class Change:
     frame_after: int
     profile_before: Any = None           # a profile change (a Profile each side); None: the same profile
     profile_after: Any = None
+    leds_before: Any = None              # LEDs picked by colour each side (an edit that moved them)
+    leds_after: Any = None
 
     @classmethod
     def of_frame(cls, label: str, index: int, before: np.ndarray, after: np.ndarray) -> "Change":
@@ -65,6 +68,10 @@ class History:
         self._done.append(change)
         self._undone.clear()
         self.serial += 1
+
+    def amend_last(self, **fields: Any) -> None:
+        """Add to the change just recorded (the LEDs an edit moved, known only after it ran)."""
+        self._done[-1] = replace(self._done[-1], **fields)
 
     @property
     def can_undo(self) -> bool:

@@ -32,18 +32,20 @@ GROUPS: list[tuple[str, list[tuple[str, str, str, str | None]]]] = [
         ("A", "as_lit", "as lit: brightness and colour from each LED's current (on/off)", None),
         ("@", "lit_corner", "as lit at the next corner (typ, stress, bright)", None),
     ]),
-    ("Region and clipboard", [
+    ("Region, picked LEDs and clipboard", [
         ("m", "mark", "set / clear the mark (the region runs from mark to cursor)", None),
-        ("escape", "unmark", "clear the mark", None),
+        ("M", "pick_leds", "pick every LED of a colour (in the region; in the picked frames too)", "pick"),
+        ("escape", "unmark", "clear the mark and the picked LEDs", None),
         ("/", "line", "line from the mark to the cursor", None),
         ("b", "box(False)", "box outline from the mark to the cursor", None),
         ("B", "box(True)", "filled box from the mark to the cursor", None),
-        ("c", "copy", "copy the region (the whole frame with no mark)", None),
-        ("x", "cut", "cut the region", None),
+        ("c", "copy", "copy the picked LEDs or the region (the whole frame with no mark)", None),
+        ("x", "cut", "cut the picked LEDs or the region", None),
+        ("delete", "delete_selected", "turn off the picked LEDs or the region", None),
         ("v", "paste(False)", "paste at the cursor (works across frames)", None),
         ("V", "paste(True)", "paste at the cursor, off LEDs see-through", None),
     ]),
-    ("Whole picture (the picked frames when frames are picked)", [
+    ("Whole picture (the picked frames when frames are picked; only the picked LEDs when LEDs are picked)", [
         ("shift+up,K", "shift(-1,0)", "shift the picture up", None),
         ("shift+down,J", "shift(1,0)", "shift the picture down", None),
         ("shift+left,H", "shift(0,-1)", "shift the picture left", None),
@@ -55,7 +57,7 @@ GROUPS: list[tuple[str, list[tuple[str, str, str, str | None]]]] = [
         ("R", "rotate(-1)", "rotate a quarter turn anticlockwise (square panels)", None),
         ("i", "invert", "invert the brush colour's LEDs (off brush: both colours)", None),
         ("^", "swap_colours", "swap red and green", None),
-        ("%", "recolour", "LEDs of the colour under the cursor take the brush colour (in the region)", None),
+        ("%", "recolour", "picked LEDs (else the cursor's colour in the region) take the brush colour", None),
         ("E", "clear", "erase the whole frame", None),
     ]),
     ("Frames", [
@@ -97,6 +99,7 @@ GROUPS: list[tuple[str, list[tuple[str, str, str, str | None]]]] = [
         ("ctrl+n", "new_pattern", "new pattern (asks for the profile: panel size and wiring)", None),
         ("ctrl+o", "open_pattern", "open another pattern file", None),
         ("#", "change_profile", "change the profile; another panel size pads or crops the frames", None),
+        ("G", "panel_size", "change the panel size (columns x rows) to a profile of that size", None),
         ("F", "apply_fix", "fix: write a profile with resistors that pass, and use it", None),
         ("?,f1", "help", "keys (this list)", "keys"),
         ("q,ctrl+q", "quit", "quit (asks about unsaved changes)", "quit"),

@@ -105,6 +105,20 @@ class LinkPanel(Vertical):
         yield device
         yield Static("", id="device-note", markup=False)
 
+    def on_resize(self) -> None:
+        self._fit_buttons()
+
+    def _fit_buttons(self) -> None:
+        """The buttons stand one above the other when a row of them would not fit the pane (a wide
+        panel's canvas at 80x24 leaves the pane about 30 columns), so none is cut off."""
+        if not self.is_mounted or self._gone:
+            return
+        box = self.query_one("#link-buttons")
+        need = sum(len(str(b.label)) + 3 for b in box.query(Button))    # label, padding, margin
+        width = self.scrollable_content_region.width
+        if width:
+            box.set_class(need > width, "-stacked")
+
     def on_mount(self) -> None:
         self.call_after_refresh(self._fill_sim_url)
         self.call_after_refresh(self._refresh_labels)
@@ -387,9 +401,15 @@ class LinkPanel(Vertical):
     def _refresh_labels(self) -> None:
         if not self.is_mounted or self._gone:
             return
-        self.query_one("#link-connect", Button).label = "disconnect" if self.link is not None else "connect"
-        self.query_one("#link-live", Button).label = "live: on" if self.live else "live: off"
-        self.query_one("#link-play", Button).label = "stop" if self._stop_play is not None else "play"
+        labels = {"#link-connect": "disconnect" if self.link is not None else "connect",
+                  "#link-live": "live: on" if self.live else "live: off",
+                  "#link-play": "stop" if self._stop_play is not None else "play"}
+        for selector, label in labels.items():
+            button = self.query_one(selector, Button)
+            if str(button.label) != label:
+                button.label = label
+                button.refresh(layout=True)     # a longer label needs a wider button ("disconn" otherwise)
+        self._fit_buttons()
         note = self.query_one("#device-note", Static)
         if self.blocked:
             note.update("BLOCKED, not sent: " + "; ".join(self.blocked))

@@ -1,5 +1,8 @@
-"""Pattern commands: new, open, and moving the pattern to another profile (which may change the
-panel size: every frame is padded or cropped around an anchor, as one undo step).
+"""Pattern commands: new, open, moving the pattern to another profile, and changing the panel size.
+
+A pattern's size is always its profile's (the file is refused otherwise, and the wiring of a size is
+the profile's to say), so a new size asks for a profile of that size: the bundled ones of that size,
+or a profile file. Either way every frame is padded or cropped around an anchor, as one undo step.
 
 ``ask_profile`` is shared with the app's start-up offer; the actions are a mixin of
 :class:`~composer.tui.editor.EditorScreen`.
@@ -11,7 +14,7 @@ from typing import TYPE_CHECKING, Callable
 
 from ..bundled import bundled_demo
 from ..errors import RowcastError
-from ..model import ANCHORS, size_text
+from ..model import ANCHORS, parse_size, size_text
 from ..pattern_file import open_pattern
 from ..profile import Profile, bundled_profiles, load_profile
 from .dialogs import AskText, PickOne
@@ -38,6 +41,14 @@ def profile_choices() -> list[tuple[str, str]]:
             out.append((name, f"{name} · does not load: {err}"[:70]))
     out.append((_FILE, "a profile file (type its path)…"))
     return out
+
+
+def _size_of(name: str) -> tuple[int, int] | None:
+    try:
+        p = load_profile(name)
+    except RowcastError:
+        return None
+    return p.rows, p.cols
 
 
 def ask_profile(app, title: str, message: str, done: Callable[[Profile], None],
@@ -113,21 +124,85 @@ class PatternActions(_Editor):
     def action_change_profile(self) -> None:
         s = self.session
         now = size_text(s.anim.rows, s.anim.cols)
-
-        def chosen(profile: Profile) -> None:
-            if (profile.rows, profile.cols) == (s.anim.rows, s.anim.cols):
-                self.run_edit(s.change_profile, profile)
-                return
-            new = size_text(profile.rows, profile.cols)
-
-            def anchored(anchor: str | None) -> None:
-                if anchor:
-                    self.run_edit(s.change_profile, profile, anchor)
-
-            self.app.push_screen(PickOne(
-                "The panel size changes", f"{now} to {new} LEDs ({SIZE_WORDS}): every frame is padded with off "
-                "LEDs or cropped. Which part of the picture stays in place?",
-                [(a, a.replace("-", " ")) for a in ANCHORS], highlight="centre", id="pick-anchor"), anchored)
-
         ask_profile(self.app, "Change the profile",
-                    f"now {s.profile.name}, {now} LEDs ({SIZE_WORDS}); undo (z) brings it back", chosen)
+                    f"now {s.profile.name}, {now} LEDs ({SIZE_WORDS}); undo (z) brings it back", self._move_to)
+
+    def _move_to(self, profile: Profile) -> None:
+        """Move the pattern to ``profile``; another panel size first asks which part stays in place."""
+        s = self.session
+        if (profile.rows, profile.cols) == (s.anim.rows, s.anim.cols):
+            self.run_edit(s.change_profile, profile)
+            return
+        now, new = size_text(s.anim.rows, s.anim.cols), size_text(profile.rows, profile.cols)
+
+        def anchored(anchor: str | None) -> None:
+            if anchor:
+                self.run_edit(s.change_profile, profile, anchor)
+
+        self.app.push_screen(PickOne(
+            f"The panel size changes (profile {profile.name})", f"{now} to {new} LEDs ({SIZE_WORDS}): every frame "
+            "is padded with off LEDs or cropped. Which part of the picture stays in place?",
+            [(a, a.replace("-", " ")) for a in ANCHORS], highlight="centre", id="pick-anchor"), anchored)
+
+    def action_panel_size(self) -> None:
+        """A new size (columns x rows), then a profile of that size, then the anchor."""
+        s = self.session
+        now = size_text(s.anim.rows, s.anim.cols)
+        asked: dict[str, tuple[int, int]] = {}
+
+        def check(text: str) -> str | None:
+            try:
+                asked["size"] = parse_size(text)
+            except RowcastError as err:
+                return str(err)
+            if asked["size"] == (s.anim.rows, s.anim.cols):
+                return f"the panel is already {now}"
+            return None
+
+        def sized(value: str | None) -> None:
+            if value:
+                self._ask_profile_of_size(*asked["size"])
+
+        self.app.push_screen(AskText(
+            "Change the panel size", f"{SIZE_WORDS}, now {now} on profile {s.profile.name}. A pattern is always "
+            "the size of its profile, so the next step picks a profile of the new size; undo (z) brings both back",
+            now, check=check, id="ask-size"), sized)
+
+    def _ask_profile_of_size(self, rows: int, cols: int) -> None:
+        s = self.session
+        new, now = size_text(rows, cols), size_text(s.anim.rows, s.anim.cols)
+        fitting = [(key, text) for key, text in profile_choices()[:-1] if _size_of(key) == (rows, cols)]
+        loaded: dict[str, Profile] = {}
+
+        def check(text: str) -> str | None:
+            if not text:
+                return "type the path of a profile file (.toml)"
+            try:
+                profile = load_profile(str(Path(text).expanduser()))
+            except RowcastError as err:
+                return str(err)
+            if (profile.rows, profile.cols) != (rows, cols):
+                return f"profile {profile.name} is {size_text(profile.rows, profile.cols)}, not {new}"
+            loaded["p"] = profile
+            return None
+
+        def typed(value: str | None) -> None:
+            if value:
+                self._move_to(loaded["p"])
+
+        def picked(key: str | None) -> None:
+            if key == _FILE:
+                self.app.push_screen(AskText(f"A {new} profile", "profile file: a path from the folder rowcast "
+                                             "started in", "", check=check, id="ask-profile-file"), typed)
+            elif key is not None:
+                self._move_to(load_profile(key))
+
+        if fitting:
+            message = (f"profile {s.profile.name} is {now}; a {new} pattern needs a {new} profile (the profile "
+                       "says how the panel is wired)")
+        else:
+            message = (f"no bundled profile is {new}, and profile {s.profile.name} is {now}: give a profile file "
+                       f"of that size (its [panel] cols = {cols}, rows = {rows} and the registers' lines for them), "
+                       f"or escape to keep {now}")
+        self.app.push_screen(PickOne(f"A profile of {new}", message, fitting + [(_FILE, f"a {new} profile file "
+                                     "(type its path)…")], id="pick-sized-profile"), picked)

@@ -2,7 +2,8 @@
 drive the same object).
 
 A :class:`Session` owns the animation, its profile and file, the undo history, the cursor, the
-mark (the other corner of a region), the brush colour and the clipboard. Every edit goes through
+selection (the mark, the other corner of a region; or LEDs picked by colour), the brush colour and
+the clipboard. Every edit goes through
 :meth:`Session.edit_frame` (one frame) or :meth:`Session.edit_animation` (the frame list), which
 record the change for undo and say what changed, so the app redraws and re-analyses only that.
 """
@@ -22,7 +23,7 @@ from ..written import save_pattern_checked
 from ..profile import Profile, bundled_profiles
 from .history import Change, History
 
-__all__ = ["Session", "Edited", "ALL", "BRUSH_NAMES", "profile_ref"]
+__all__ = ["Session", "Edited", "ALL", "BRUSH_NAMES", "profile_ref", "LedPick"]
 
 ALL = -1                                   # "every frame changed" (frame-list edits, undo of them)
 BRUSH_NAMES = {OFF: "off", RED: "red", GREEN: "green", AMBER: "amber"}
@@ -35,6 +36,18 @@ class Edited:
     frame: int
     label: str
     panel: bool = False
+
+
+@dataclass(frozen=True)
+class LedPick:
+    """LEDs picked by colour: one bool mask per frame they were picked in. The masks are positions,
+    so an edit that moves the picked LEDs (shift, mirror, rotate) moves the masks with them."""
+    colour: int
+    masks: dict[int, np.ndarray]
+
+    def count(self, index: int) -> int:
+        mask = self.masks.get(index)
+        return 0 if mask is None else int(mask.sum())
 
 
 def profile_ref(profile: Profile, pattern_path: Path | None, current: str | None = None) -> str:
@@ -74,6 +87,8 @@ class Session:
     selected: set[int] = field(default_factory=set)   # picked frames: frame-list and whole-picture edits use them
     pick_anchor: int | None = None        # the last frame picked: "pick range" runs from it to the current
     frame_clipboard: tuple[np.ndarray, np.ndarray] | None = None   # copied frames and their durations
+    leds: LedPick | None = None           # LEDs picked by colour: the selection instead of mark..cursor
+    clipboard_mask: np.ndarray | None = None   # copied picked LEDs: which cells of the clipboard to paste
 
     # -- reading --------------------------------------------------------------------------
     @property
@@ -87,6 +102,11 @@ class Session:
     @property
     def dirty(self) -> bool:
         return self.history.dirty
+
+    def picked_mask(self) -> np.ndarray | None:
+        """The LEDs picked by colour in the frame on the canvas (None: no LEDs picked here, the
+        selection is the region)."""
+        return None if self.leds is None else self.leds.masks.get(self.current)
 
     def region(self) -> tuple[int, int, int, int]:
         """(top, left, bottom, right) inclusive: mark..cursor, or the whole frame with no mark."""
@@ -105,10 +125,16 @@ class Session:
         self.history.record(change)
         return Edited(self.current, label)
 
+    def _record_leds(self, before: LedPick | None) -> None:
+        """The edit just recorded moved the picked LEDs: undo and redo put them back too."""
+        self.history.amend_last(leds_before=before, leds_after=self.leds)
+
     def edit_animation(self, label: str, fn: Callable[[Animation], int | None], *,
-                       profile: Profile | None = None) -> Edited | None:
+                       profile: Profile | None = None, keep_leds: bool = False) -> Edited | None:
         """Run ``fn`` on the animation (it returns the frame to show, or None to keep the current).
-        With ``profile`` the edit also moves the pattern to that profile (one undo step)."""
+        With ``profile`` the edit also moves the pattern to that profile (one undo step). A frame-list
+        edit unpicks the LEDs picked by colour (their frame numbers no longer hold) unless
+        ``keep_leds`` (the edit kept every frame in its place)."""
         before = (self.anim.frames.copy(), self.anim.durations_ms.copy())
         was = self.current
         trial = self.anim.copy()
@@ -118,6 +144,8 @@ class Session:
                 and np.array_equal(trial.durations_ms, before[1])):
             return None
         self.anim.frames, self.anim.durations_ms = trial.frames, trial.durations_ms
+        if not keep_leds:
+            self.leds = None
         self.current = min(was if show is None else show, self.anim.n_frames - 1)
         self.selected = {i for i in self.selected if i < self.anim.n_frames}
         profiles = None
@@ -150,8 +178,13 @@ class Session:
             change.index is None and change.before[0].shape[1:] != change.after[0].shape[1:])
         if change.profile_before is not None:
             self._set_profile(change.profile_before if word == "undo" else change.profile_after)
+        if change.leds_before is not None or change.leds_after is not None:
+            self.leds = change.leds_before if word == "undo" else change.leds_after
+        elif change.index is None:
+            self.leds = None                  # the frame list changed: the picks' frame numbers do not hold
         if panel:
             self.mark = None
+            self.leds = None
         self.clamp()
         return Edited(ALL if change.index is None else change.index, f"{word} {change.label}", panel=panel)
 
@@ -199,13 +232,28 @@ class Session:
 
     # -- clipboard (lives across frames) ------------------------------------------------------
     def copy(self) -> str:
+        mask = self.picked_mask()
+        if mask is not None:
+            if not mask.any():
+                raise InputError(f"no picked {BRUSH_NAMES[self.leds.colour]} LEDs left in this frame")
+            rows, cols = np.flatnonzero(mask.any(axis=1)), np.flatnonzero(mask.any(axis=0))
+            top, left, bottom, right = rows[0], cols[0], rows[-1], cols[-1]
+            self.clipboard_mask = mask[top:bottom + 1, left:right + 1].copy()
+            self.clipboard = np.where(self.clipboard_mask, self.frame[top:bottom + 1, left:right + 1], OFF
+                                      ).astype(np.uint8)
+            h, w = self.clipboard.shape
+            return f"copied {int(mask.sum())} {BRUSH_NAMES[self.leds.colour]} LEDs ({size_text(h, w)} box)"
         top, left, bottom, right = self.region()
         self.clipboard = model.copy_region(self.frame, top, left, bottom, right)
+        self.clipboard_mask = None
         h, w = self.clipboard.shape
-        return f"copied {h}x{w}"
+        return f"copied {size_text(h, w)}"
 
     def cut(self) -> Edited | None:
-        self.copy()
+        said = self.copy()
+        mask = self.picked_mask()
+        if mask is not None:
+            return self.edit_frame(f"cut: {said[len('copied '):]}", np.where(mask, OFF, self.frame).astype(np.uint8))
         top, left, bottom, right = self.region()
         blank = np.zeros((bottom - top + 1, right - left + 1), np.uint8)
         return self.edit_frame("cut", model.paste_region(self.frame, blank, top, left))
@@ -215,11 +263,57 @@ class Session:
             raise InputError("the clipboard is empty: copy (c) or cut (x) a region first")
         r, c = self.cursor
         return self.edit_frame("paste over" if transparent else "paste",
-                               model.paste_region(self.frame, self.clipboard, r, c, transparent=transparent))
+                               model.paste_region(self.frame, self.clipboard, r, c, transparent=transparent,
+                                                  mask=self.clipboard_mask))
+
+    # -- picking LEDs by colour ----------------------------------------------------------------
+    def pick_colour(self, colour: int) -> str:
+        """Pick every LED of ``colour`` in the frame on the canvas and in every picked frame (inside
+        the region when the mark is set; the mark is then cleared: the picked LEDs are the selection)."""
+        frames = sorted(set(self.targets()) | {self.current})
+        inside = np.zeros((self.anim.rows, self.anim.cols), bool)
+        top, left, bottom, right = self.region()
+        inside[top:bottom + 1, left:right + 1] = True
+        masks = {i: (self.anim.frames[i] == colour) & inside for i in frames}
+        total = sum(int(m.sum()) for m in masks.values())
+        where = "in the region" if self.mark is not None else "in this frame" if len(frames) == 1 else \
+            f"in the {_frames(len(frames))}"
+        if not total:
+            raise InputError(f"no {BRUSH_NAMES[colour]} LEDs {where}")
+        self.leds, self.mark = LedPick(colour, masks), None
+        return (f"picked {total} {BRUSH_NAMES[colour]} LED{'s' if total != 1 else ''} {where}: c copy, x cut, "
+                "del turn off, shifts and mirrors move them, Esc unpicks")
+
+    def unpick(self) -> bool:
+        """Clear the mark and the LEDs picked by colour; False when there was neither."""
+        had = self.mark is not None or self.leds is not None
+        self.mark, self.leds = None, None
+        return had
+
+    def delete_selected(self) -> Edited | None:
+        """Turn off the picked LEDs (in every frame they were picked in), or the region's LEDs (in the
+        frame on the canvas, or in every picked frame)."""
+        if self.picked_mask() is not None:
+            return self.edit_pictures("turn off", model.clear)
+        if self.mark is None:
+            raise InputError("nothing selected: m marks a region, M picks LEDs by colour")
+        top, left, bottom, right = self.region()
+
+        def off(f: np.ndarray) -> np.ndarray:
+            out = f.copy()
+            out[top:bottom + 1, left:right + 1] = OFF
+            return out
+        return self.edit_pictures(f"turn off {size_text(bottom - top + 1, right - left + 1)}", off)
 
     # -- whole-picture operations (the picked frames when any are picked) ---------------------
-    def edit_pictures(self, label: str, fn: Callable[[np.ndarray], np.ndarray]) -> Edited | None:
-        """``fn`` on the current frame, or on every picked frame as one undo step."""
+    def edit_pictures(self, label: str, fn: Callable[[np.ndarray], np.ndarray], *,
+                      moves: bool = False) -> Edited | None:
+        """``fn`` on the current frame, or on every picked frame as one undo step. With LEDs picked by
+        colour in the frame on the canvas, ``fn`` acts on those LEDs only, in every frame they were
+        picked in; ``moves`` (shift, mirror, rotate) moves them, and the picks with them, over the
+        rest of the picture (what they leave turns off)."""
+        if self.picked_mask() is not None:
+            return self._edit_picked(label, fn, moves)
         if not self.selected:
             return self.edit_frame(label, fn(self.frame))
         idx = sorted(self.selected)
@@ -227,18 +321,43 @@ class Session:
         def each(a: Animation) -> None:
             for i in idx:
                 a.frames[i] = fn(a.frames[i])
-        return self.edit_animation(f"{label} on {_frames(len(idx))}", each)
+        return self.edit_animation(f"{label} on {_frames(len(idx))}", each, keep_leds=True)
+
+    def _edit_picked(self, label: str, fn: Callable[[np.ndarray], np.ndarray], moves: bool) -> Edited | None:
+        before = self.leds
+        masks = dict(before.masks)
+        name = f"{label} ({BRUSH_NAMES[before.colour]} LEDs picked)"
+
+        def one(i: int, f: np.ndarray) -> np.ndarray:
+            mask = masks[i]
+            if not moves:
+                return np.where(mask, fn(f), f).astype(np.uint8)
+            moved = fn(np.where(mask, f, OFF).astype(np.uint8))
+            masks[i] = fn(mask.astype(np.uint8)).astype(bool)
+            return np.where(masks[i], moved, np.where(mask, OFF, f)).astype(np.uint8)
+
+        if len(masks) == 1:
+            edited = self.edit_frame(name, one(self.current, self.frame))
+        else:
+            def each(a: Animation) -> None:
+                for i in sorted(masks):
+                    a.frames[i] = one(i, a.frames[i])
+            edited = self.edit_animation(f"{name} in {_frames(len(masks))}", each, keep_leds=True)
+        if edited is not None:
+            self.leds = LedPick(before.colour, masks)
+            self._record_leds(before)
+        return edited
 
     def shift(self, d_rows: int, d_cols: int) -> Edited | None:
         word = "shift with wrap" if self.wrap else "shift"
-        return self.edit_pictures(word, lambda f: model.shift(f, d_rows, d_cols, wrap=self.wrap))
+        return self.edit_pictures(word, lambda f: model.shift(f, d_rows, d_cols, wrap=self.wrap), moves=True)
 
     def mirror(self, axis: str) -> Edited | None:
         word = {"horizontal": "mirror left-right", "vertical": "mirror top-bottom"}.get(axis, "mirror")
-        return self.edit_pictures(word, lambda f: model.mirror(f, axis))
+        return self.edit_pictures(word, lambda f: model.mirror(f, axis), moves=True)
 
     def rotate(self, quarter_turns: int) -> Edited | None:
-        return self.edit_pictures("rotate", lambda f: model.rotate(f, quarter_turns))
+        return self.edit_pictures("rotate", lambda f: model.rotate(f, quarter_turns), moves=True)
 
     def invert(self) -> Edited | None:
         return self.edit_pictures("invert", lambda f: model.invert(f, self.brush if self.brush else AMBER))
@@ -250,7 +369,12 @@ class Session:
         return self.edit_pictures("swap red and green", model.swap_colours)
 
     def recolour(self) -> Edited | None:
-        """Every LED of the colour under the cursor (in the region) takes the brush colour."""
+        """Every LED of the colour under the cursor (in the region) takes the brush colour; with LEDs
+        picked by colour, the picked LEDs take it."""
+        if self.picked_mask() is not None:
+            brush = self.brush
+            return self.edit_pictures(f"LEDs to {BRUSH_NAMES[brush]}",
+                                      lambda f: np.full_like(f, brush))
         r, c = self.cursor
         was = int(self.frame[r, c])
         top, left, bottom, right = self.region()

@@ -1,7 +1,9 @@
 /* The tiny board interface the portable core is written against.
  *
  * A board layer provides "board_impl.h" (found through the include path) defining these, usually
- * as static inline functions so the row interrupt stays short:
+ * as static inline functions so the row interrupt stays short. The tick steps (blank, latch,
+ * unblank_later, spi_put_slot, watchdog_kick) are what core/scan.h calls; a board may instead run the
+ * same steps in a row interrupt of its own (the ATmega328P board: board/avr328p/row_tick.c):
  *
  *   void board_init(void);               pins safe: output-enable inactive, latch idle low
  *   int16_t board_serial_get(void);      next received byte, or -1 when none is waiting

@@ -30,7 +30,7 @@ typedef struct {
     const uint8_t *next;            /* bytes of the slot to shift at the next tick (front + k * bpr) */
     const uint8_t *end;             /* front + rows * bpr: the scan is complete when next gets here */
     uint8_t rows, bpr, size;        /* size = rows * bpr */
-    volatile uint16_t scans;        /* full scans completed (wraps) */
+    volatile uint16_t scans;        /* full scans completed (wraps); counted by scan.h (host build) */
 } rc_scan_state;
 
 extern rc_scan_state rc_scan;

@@ -12,8 +12,16 @@ static RAM <= 1024 bytes; stretch >= 3000 Hz.
 simavr's interrupt hook sees a handler from its vector jump to its RETI (the end-of-blanking handler
 measures 6 cycles: JMP 3 + SBIC 1 + CBI 2); the 4-cycle interrupt response and RETI's 4 cycles
 (ATmega328P datasheet, "Interrupt Response Time" and the instruction set summary, from memory) are
-added to every row-interrupt figure and to every entry from outside the scan handlers (a handler
-nested inside the row interrupt already lies inside its window).
+added to every row-interrupt figure and to every entry from outside the scan handlers. A handler nested
+inside the row interrupt lies inside its window, but simavr charges it 9 cycles where the data sheet counts 14
+(response 4 + JMP 3 + SBIC 1 + CBI 2 + RETI 4; measured: wide-16x8's row interrupt takes 113 cycles with a
+blanking of 0 and 122 with 4 us): the CPU shares add the 5 missing cycles for each nested entry.
+
+Issue 14: the row interrupt alone (a blanking of 0 ends inside it, so no second interrupt nests in it) for
+3, 5 and 10 bytes a slot against the SPI floor of 16 cycles a byte at fosc/2, goal <= 16 x B + 60 (the
+mean; the maximum is the once-a-scan tick that swaps frames); the bench 8x8 at 3000 Hz refresh within 17 % of
+the CPU and the tiled 32 x 16 sign at 1250 Hz or more within 30 %, both with their own 4 us blanking. Cycle
+counts in simavr are deterministic: the figures do not depend on how loaded the machine running it is.
 """
 from __future__ import annotations
 
@@ -39,6 +47,7 @@ from transport import simboard  # noqa: E402
 
 F = simboard.F_CPU
 HIDDEN_PER_ENTRY = 8            # response + RETI, see the module docstring
+NESTED_MISSING = 5              # data sheet 14 - simavr's 9 for a nested end-of-blanking handler
 # RAM: half the 2 KB of an ATmega328P (datasheet, from memory), the rest for the stack; the frame store
 # of 16 rows x 10 bytes, twice, and the message buffer take most of the static RAM.
 GOAL_REFRESH_HZ, GOAL_CPU, GOAL_FLASH, GOAL_RAM, STRETCH_HZ = 1250.0, 0.12, 4096, 1024, 3000.0
@@ -58,8 +67,9 @@ def exchange(port: serial.Serial, msg, tries: int = 5) -> list:
     raise RuntimeError(f"no answer to {msg}")
 
 
-def measure(build: Path, profile, row_period_us: int, tmp: Path) -> dict:
+def measure(build: Path, profile, row_period_us: int, tmp: Path, blanking_us: float | None = None) -> dict:
     recs_path = tmp / f"rec-{row_period_us}.txt"
+    blanking_us = profile.scan.blanking_us if blanking_us is None else blanking_us
     masks = guard_masks(profile)
     frame = np.zeros((profile.rows, profile.cols), np.uint8)
     frame[:, ::2] = 3                                       # a busy frame: half the columns amber
@@ -68,7 +78,7 @@ def measure(build: Path, profile, row_period_us: int, tmp: Path) -> dict:
         with serial.serial_for_url(board.port, baudrate=115200, timeout=0.05) as port:
             assert exchange(port, P.Identify(1))[0].version == P.VERSION
             cfg = P.Configure(2, profile.rows, len(masks.xor), row_period_us,
-                              math.ceil(round(profile.scan.blanking_us * 1000, 3)), limit, masks.xor, masks.count,
+                              math.ceil(round(blanking_us * 1000, 3)), limit, masks.xor, masks.count,
                               P.LSB_FIRST if profile.chain.bit_order == "lsb-first" else 0)
             assert exchange(port, cfg) == [P.Ack(2)]
             data = shift_bytes(frame, profile).tobytes()
@@ -81,11 +91,13 @@ def measure(build: Path, profile, row_period_us: int, tmp: Path) -> dict:
             board.mark("window end")
     recs = simboard.read_records(recs_path)
     tick = next(s for s in recs.isr if s.vector == 11)
+    blank_end = next(s for s in recs.isr if s.vector == 12)
     lo, hi = recs.marks["window"], recs.marks["window end"]
     cyc = recs.latch_cycles[(recs.latch_cycles >= lo) & (recs.latch_cycles < hi)]
     row_hz = round(F / float(np.mean(np.diff(cyc))), 1)     # 0.1 Hz: the timer divides the clock exactly
     busy, window, entries = recs.busy
-    cpu = (busy + HIDDEN_PER_ENTRY * entries) / window
+    nested = tick.count + blank_end.count - entries
+    cpu = (busy + HIDDEN_PER_ENTRY * entries + NESTED_MISSING * nested) / window
     return dict(period=row_period_us, min=tick.min + HIDDEN_PER_ENTRY, mean=tick.mean + HIDDEN_PER_ENTRY,
                 max=tick.max + HIDDEN_PER_ENTRY, row_hz=row_hz, refresh=row_hz / profile.rows, cpu=cpu)
 
@@ -110,7 +122,7 @@ def main() -> int:
         tiled = load_profile("tiled-32x16")
         # issue 14: the row interrupt against the SPI floor for 3, 5 and 10 bytes a slot, and the two
         # scan goals (bench 8x8 at 3000 Hz within 17 % CPU, the 16-row sign at >= 1250 Hz within 30 %)
-        floor_rows = [(p, measure(build, p, 100, tmp)) for p in (profile, wide, tiled)]
+        floor_rows = [(p, measure(build, p, 100, tmp, blanking_us=0.0)) for p in (profile, wide, tiled)]
         fast_bench = measure(build, profile, int(1e6 / (3000 * profile.rows)), tmp)
         fast_tiled = measure(build, tiled, int(1e6 / (1250 * tiled.rows)), tmp)
     print(f"receiver firmware, {profile.name} ({profile.rows} rows x {profile.n_registers} registers), "
@@ -122,11 +134,13 @@ def main() -> int:
     r = wide_row
     print(f"{wide.name} ({wide.rows} rows x {wide.n_registers} registers): {r['period']} us rows, cycles/row irq "
           f"{r['min']:.0f}/{r['mean']:.1f}/{r['max']:.0f}, refresh {r['refresh']:.0f} Hz, scan CPU {100 * r['cpu']:.2f} %")
-    print("row interrupt against the SPI floor (16 cycles a byte at fosc/2; goal <= 16 x B + 60):")
+    print("row interrupt alone (blanking 0) against the SPI floor (16 cycles a byte at fosc/2; goal <= 16 x B + 60):")
     for prof, r in floor_rows:
         b = prof.n_registers
-        print(f"  B = {b:>2} bytes ({prof.name}): {r['mean']:6.1f} cycles mean, floor 16 x B = {16 * b}, ratio "
-              f"{r['mean'] / (16 * b):.2f}; goal {16 * b + 60}: {'met' if r['mean'] <= 16 * b + 60 else 'NOT met'}")
+        print(f"  B = {b:>2} bytes ({prof.name}): cycles min/mean/max {r['min']:.0f}/{r['mean']:.1f}/{r['max']:.0f}, "
+              f"floor 16 x B = {16 * b}, ratio {r['mean'] / (16 * b):.2f} (max {r['max'] / (16 * b):.2f}); "
+              f"goal {16 * b + 60}: mean {'met' if r['mean'] <= 16 * b + 60 else 'NOT met'}, "
+              f"max {'met' if r['max'] <= 16 * b + 60 else 'NOT met'}")
     for name, r, goal_cpu, goal_hz in ((profile.name, fast_bench, 0.17, 3000.0), (tiled.name, fast_tiled, 0.30, 1250.0)):
         met = r["refresh"] >= goal_hz and r["cpu"] <= goal_cpu
         print(f"  {name} at {r['period']} us rows: refresh {r['refresh']:.0f} Hz, scan CPU {100 * r['cpu']:.1f} % "

@@ -31,8 +31,9 @@ MAX_ROWS = 16           # RC_MAX_ROWS
 
 
 def configure(parser: argparse.ArgumentParser) -> None:
-    parser.epilog = ("For a real board: make -C firmware_stub, then make -C firmware_stub flash PORT=... (see "
-                     "firmware_stub/README.md first: cautions, programmer). The same build serves every wiring: "
+    parser.epilog = (f"For a real board: make -C {simboard.FIRMWARE_DIR} BUILD=FOLDER, then the same with flash "
+                     "PORT=... (read the README.md in that folder first: cautions, programmer). The same build serves "
+                     "every wiring: "
                      "rowcast sends the chain's bit order in CONFIGURE and the firmware sets its SPI data order. "
                      + (parser.epilog or ""))
     parser.add_argument("--profile", default="bench-8x8", metavar="P",

@@ -5,7 +5,6 @@
 #include <avr/wdt.h>
 #include "board.h"
 #include "receiver.h"
-#include "scan.h"
 
 #ifndef F_CPU
 #define F_CPU 16000000UL
@@ -18,6 +17,7 @@
 volatile uint8_t rc_rx_buf[RC_RX_SIZE], rc_tx_buf[RC_TX_SIZE];
 volatile uint8_t rc_rx_head, rc_rx_tail, rc_tx_head, rc_tx_tail;
 uint16_t rc_blank_cycles;
+uint8_t rc_slot_rest;                              /* bytes of a slot after the third (row_tick.c) */
 
 /* After a watchdog reset the watchdog stays enabled at its shortest period; switch it off before
  * anything else (avr-libc <avr/wdt.h> documentation). */
@@ -48,13 +48,19 @@ void board_tick_start(uint16_t row_period_us, uint32_t blanking_ns)
     uint16_t top = (uint16_t)(row_period_us * RC_CYCLES_PER_US - 1u);
     /* Rounded up: the dark gap is never shorter than asked. */
     rc_blank_cycles = (uint16_t)((blanking_ns * RC_CYCLES_PER_US + 999UL) / 1000UL);
+    uint8_t small = rc_blank_cycles <= RC_LIGHT_AT_ONCE_CYCLES, bpr = rc_scan.bpr;
     TCCR1B = 0;
     TCCR1A = 0;
     TCNT1 = 0;
     OCR1A = top;
-    OCR1B = top;                                    /* set per row by board_unblank_later */
+    OCR1B = top;                                    /* set per row by the row interrupt */
     TIFR1 = _BV(OCF1A) | _BV(OCF1B);
-    TIMSK1 = _BV(OCIE1A) | _BV(OCIE1B);
+    /* The scan's flags for the row interrupt (board_impl.h); the outputs are off (CONFIGURE). */
+    rc_slot_rest = (uint8_t)(bpr > 3u ? bpr - 3u : 0u);
+    GPIOR0 = (uint8_t)((small ? _BV(RC_SMALL_BIT) : 0) | (bpr >= 2u ? _BV(RC_B2_BIT) : 0) |
+                       (bpr >= 3u ? _BV(RC_B3_BIT) : 0) | (rc_scan.next == rc_scan.end ? _BV(RC_WRAP_BIT) : 0));
+    /* A short blanking ends inside the row interrupt: compare B's interrupt would only cost time. */
+    TIMSK1 = (uint8_t)(_BV(OCIE1A) | (small ? 0 : _BV(OCIE1B)));
     TCCR1B = _BV(WGM12) | _BV(CS10);                /* CTC on OCR1A, no prescaler */
 }
 
@@ -95,14 +101,8 @@ ISR(USART_UDRE_vect)
     rc_tx_tail = (uint8_t)((t + 1) & (RC_TX_SIZE - 1));
 }
 
-/* The row tick. */
-ISR(TIMER1_COMPA_vect)
-{
-    rc_scan_tick();
-}
-
-/* End of blanking: output-enable active (low) if outputs are on. Touches no register and no flag,
- * so it needs no prologue. */
+/* End of a blanking longer than RC_LIGHT_AT_ONCE_CYCLES: output-enable active (low) if outputs are
+ * on. Touches no register and no flag, so it needs no prologue. */
 ISR(TIMER1_COMPB_vect, ISR_NAKED)
 {
     __asm__ __volatile__(

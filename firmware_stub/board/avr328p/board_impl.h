@@ -8,12 +8,13 @@
  *                          As an output it also keeps the SPI in master mode.
  *   PD0/PD1                UART0 to the USB serial bridge
  *
- * Timer 1 in CTC mode gives one compare-A interrupt per row (the scan tick) and a compare-B
- * interrupt at the end of the blanking time that re-enables the outputs. Compare B is set from the
- * counter each row, after the blanking write, so a tick delayed by another interrupt still gets its
- * full dark gap (a fixed compare B gave gaps of 14 cycles in simavr when the serial interrupt
- * delayed the tick). GPIOR0 bit 0 says whether
- * outputs are switched on; the compare-B handler tests it with one instruction. */
+ * Timer 1 in CTC mode gives one compare-A interrupt per row (the scan tick, written in assembly in
+ * row_tick.c) and, for a blanking longer than RC_LIGHT_AT_ONCE_CYCLES, a compare-B interrupt at the
+ * end of the blanking time that re-enables the outputs. Compare B is set from the counter each row,
+ * after the blanking write, so a tick delayed by another interrupt still gets its full dark gap (a
+ * fixed compare B gave gaps of 14 cycles in simavr when the serial interrupt delayed the tick).
+ * GPIOR0 holds the scan's flags (below); the compare-B handler tests one with one instruction.
+ * The row interrupt works in r2..r8, which the Makefile keeps out of the compiler's hands. */
 #ifndef RC_BOARD_IMPL_H
 #define RC_BOARD_IMPL_H
 #include <stdint.h>
@@ -23,7 +24,17 @@
 
 #define RC_PIN_LATCH PB1
 #define RC_PIN_OE PB2
-#define RC_OUTPUTS_BIT 0            /* in GPIOR0 */
+/* GPIOR0 bits (SBI, CBI, SBIC and SBIS reach it in one instruction that changes no flag): */
+#define RC_OUTPUTS_BIT 0            /* outputs switched on (compare B's handler tests it) */
+#define RC_WRAP_BIT 1               /* the next slot to latch is the last of a scan (row_tick.c) */
+#define RC_LIGHT_BIT 2              /* outputs on and a blanking the row interrupt serves itself */
+#define RC_SMALL_BIT 3              /* blanking <= RC_LIGHT_AT_ONCE_CYCLES (set at tick start) */
+#define RC_B2_BIT 4                 /* slots of 2 bytes or more */
+#define RC_B3_BIT 5                 /* slots of 3 bytes or more */
+
+/* A blanking of at most this many cycles ends inside the row interrupt, at a fixed distance from the
+ * blanking instruction (board/avr328p/row_tick.c counts it); a longer one by compare B. */
+#define RC_LIGHT_AT_ONCE_CYCLES 40u
 
 #define RC_RX_SIZE 32u              /* powers of two: the index wraps with a mask; small to keep RAM under 512 bytes */
 #define RC_TX_SIZE 16u              /* the longest reply (IDENTITY) is 16 wire bytes */
@@ -65,68 +76,16 @@ static inline void board_spi_put(uint8_t b)
         ;
 }
 
-/* The row tick's shift at a fixed RC_SPI_BYTE_CYCLES a byte, with no polling: at fosc/2 a byte
- * leaves the SPI in 16 cycles (ATmega328P data sheet, SPI with SPI2X: SCK = fosc/2, 8 clocks a
- * byte), so writing SPDR 18 cycles after the previous write never collides, and the 2 spare cycles
- * cover any synchronisation. Polling SPIF cost 22 cycles a byte (the wait loop's granularity and the
- * branch back). The last byte is left shifting (the next latch is a row period away); an interrupt
- * inside the loop only lengthens one gap. simavr's SPI model counts a write during a transfer
- * as a collision (tests/test_firmware_sim.py checks there are none). */
-#define RC_SPI_BYTE_CYCLES 18
-static inline void board_spi_put_slot(const uint8_t *src, uint8_t n)
-{
-    uint8_t b;
-    __asm__ __volatile__(
-        "ld %[b], %a[p]+\n\t"
-        "out %[spdr], %[b]\n\t"      /* the first byte: 1 + 1 + 1 + 1 + 2 + 12 = 18 to the next out */
-        "dec %[n]\n\t"
-        "breq 2f\n\t"
-        "nop\n\t"
-        "1: ld %[b], %a[p]+\n\t"     /* 2 */
-        "rjmp .+0\n\t"               /* 2 x 6: the padding */
-        "rjmp .+0\n\t"
-        "rjmp .+0\n\t"
-        "rjmp .+0\n\t"
-        "rjmp .+0\n\t"
-        "rjmp .+0\n\t"
-        "out %[spdr], %[b]\n\t"      /* 1 */
-        "dec %[n]\n\t"               /* 1 */
-        "brne 1b\n\t"                /* 2 taken: 18 a byte */
-        "2:\n\t"
-        : [b] "=&r"(b), [p] "+e"(src), [n] "+r"(n)
-        : [spdr] "I"(_SFR_IO_ADDR(SPDR))
-        : "memory");
-}
-
-static inline void board_latch(void)
-{
-    PORTB |= _BV(RC_PIN_LATCH);     /* a real part latches on this rising edge */
-    PORTB &= (uint8_t)~_BV(RC_PIN_LATCH);
-}
-
-static inline void board_blank(void) { PORTB |= _BV(RC_PIN_OE); }
-
-/* End of blanking: compare B, counted from now; then let it in even while the rest of the tick
- * runs. A compare value the counter reaches before its flag is cleared would never match this row
- * (the panel stayed dark with blanking_us = 0), so the counter is read again after arming: if the
- * blanking time has already passed, output-enable goes active here (if outputs are on). A late
- * second activation by compare B is harmless. CONFIGURE keeps the compare inside the row period
- * (RC_MIN_LIGHT_NS). */
-static inline void board_unblank_later(void)
-{
-    uint16_t t = TCNT1;
-    OCR1B = (uint16_t)(t + rc_blank_cycles);
-    TIFR1 = _BV(OCF1B);
-    if ((uint16_t)(TCNT1 - t) >= rc_blank_cycles && (GPIOR0 & _BV(RC_OUTPUTS_BIT)))
-        PORTB &= (uint8_t)~_BV(RC_PIN_OE);
-    sei();
-}
-
+/* Each bit is set or cleared by one SBI/CBI, so the row interrupt's own changes to GPIOR0 are never
+ * undone by a read-modify-write here. */
 static inline void board_outputs(uint8_t on)
 {
     if (on) {
         GPIOR0 |= _BV(RC_OUTPUTS_BIT);
+        if (GPIOR0 & _BV(RC_SMALL_BIT))
+            GPIOR0 |= _BV(RC_LIGHT_BIT);
     } else {
+        GPIOR0 &= (uint8_t)~_BV(RC_LIGHT_BIT);
         GPIOR0 &= (uint8_t)~_BV(RC_OUTPUTS_BIT);
         PORTB |= _BV(RC_PIN_OE);
     }
