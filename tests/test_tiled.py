@@ -171,40 +171,65 @@ def test_row_interrupt_cycles_follow_the_stated_formula(tmp_path):
                 assert abs(blank_end.count - tick.count) <= 1, (name, blank_end.count, tick.count)
 
 
-def test_tiled_sign_end_to_end_in_the_simulator(tmp_path):
-    """The real firmware in simavr with ten simulated 74HC595-class parts: the ticket-counter demo streamed
-    through the real Link at the profile's 48 us rows. The panel is rebuilt from the recorded serial bits and
-    latch pulses by the datasheet chain model of tests/test_firmware_matrix.py (not through composer.wiring):
-    every whole scan while the outputs are on is an authored frame, in the order sent, rows 0..15 in order,
-    no latch with the outputs on. The receiver states its capacity (16 rows x 10 bytes) and refuses a slot one
-    byte longer at CONFIGURE."""
+def stream_tickets(tmp_path, prof, n_frames: int, window: int, scans_between: int, after=None):
+    """The ticket-counter demo's first distinct frames streamed through the real Link to the real firmware
+    in simavr with ten simulated 74HC595-class parts, then checked: the panel is rebuilt from the recorded
+    serial bits and latch pulses by the datasheet chain model of tests/test_firmware_matrix.py (not through
+    composer.wiring): every whole scan while the outputs are on is an authored frame, in the order sent,
+    rows 0..15 in order, no latch with the outputs on, no SPI write while a byte still shifts, and the rows
+    latched at the profile's period. ``after(board)`` runs once the Link is closed, the board still up.
+    Returns the receiver's IDENTITY."""
     need_simulator()
-    import serial
     from tests.test_firmware_matrix import check_panel
-    from tests.test_firmware_sim import raw_exchange
     from transport import Link, simboard
-    from transport import protocol as P
     from transport.simboard import SimBoard, read_records
-    prof = load_profile("tiled-32x16")
     anim, _ = open_pattern(TICKETS)
-    sent = [f for i, f in enumerate(anim.frames) if i == 0 or not np.array_equal(f, anim.frames[i - 1])][:6]
+    sent = [f for i, f in enumerate(anim.frames) if i == 0 or not np.array_equal(f, anim.frames[i - 1])][:n_frames]
     f_cpu = simboard.F_CPU
     period = int(round(prof.scan.row_period_us * f_cpu / 1e6))
     build = simboard.build(tmp_path / "build")
     recs_path = tmp_path / "records.txt"
     with SimBoard.start(prof, build_dir=build, records=recs_path, max_cycles=25 * f_cpu, spi_bits=True) as board:
-        with Link(board.port, prof, window=1, handshake_timeout=2.0, reconnect=False) as link:
-            assert (link.identity.max_rows, link.identity.max_bytes_per_row) == (16, 10)
+        with Link(board.port, prof, window=window, handshake_timeout=2.0, reconnect=False) as link:
+            identity = link.identity
             board.mark("frames")
             for f in sent:
                 assert link.send_frame(f).acked
-                board.wait_cycles(3 * prof.rows * period)
+                board.wait_cycles(scans_between * prof.rows * period)
             board.mark("done")
+        if after:
+            after(board)
+    recs = read_records(recs_path)
+    assert recs.spi_collisions == 0
+    check_panel(recs, prof, sent, period)
+    cyc = recs.latch_cycles[(recs.latch_cycles >= recs.marks["frames"]) & (recs.latch_cycles < recs.marks["done"])]
+    assert np.median(np.diff(cyc)) == period
+    return identity
+
+
+def test_tiled_sign_end_to_end_in_the_simulator(tmp_path):
+    """The tiled sign at the profile's 48 us rows (768 cycles at 16 MHz), six frames a few scans apart
+    (stream_tickets). The receiver states its capacity (16 rows x 10 bytes) and refuses a slot one byte
+    longer at CONFIGURE."""
+    import serial
+    from tests.test_firmware_sim import raw_exchange
+    from transport import protocol as P
+
+    def one_byte_too_long(board):
         with serial.serial_for_url(board.port, baudrate=115200, timeout=0.05) as port:
             too_long = P.Configure(900, 16, 11, 48, 4000, 32, bytes(11), bytes(11))
             got = raw_exchange(port, too_long)
             assert got and got[0].reason == P.Reason.BAD_CONFIG and got[0].detail == 1, got
-    recs = read_records(recs_path)
-    check_panel(recs, prof, sent, period)
-    cyc = recs.latch_cycles[(recs.latch_cycles >= recs.marks["frames"]) & (recs.latch_cycles < recs.marks["done"])]
-    assert np.median(np.diff(cyc)) == period                 # 48 us rows: 768 cycles at 16 MHz
+
+    identity = stream_tickets(tmp_path, load_profile("tiled-32x16"), 6, window=1, scans_between=3,
+                              after=one_byte_too_long)
+    assert (identity.max_rows, identity.max_bytes_per_row) == (16, 10)
+
+
+def test_tiled_sign_at_the_shortest_row_the_receiver_accepts(tmp_path):
+    """The busiest scan the receiver accepts: ten-byte slots every 20 us (RC_MIN_ROW_PERIOD_US), the scan
+    then taking about two thirds of the core, while frames stream in and answers stream out (two messages
+    in flight), checked as in stream_tickets."""
+    prof = load_profile("tiled-32x16")
+    prof = dataclasses.replace(prof, scan=dataclasses.replace(prof.scan, row_period_us=float(MIN_ROW_PERIOD_US)))
+    stream_tickets(tmp_path, prof, 8, window=2, scans_between=2)

@@ -220,3 +220,73 @@ def test_damaged_autosave_is_reported_not_lost(tmp_path, monkeypatch):
         autosave.read_autosave(pattern, None)
     assert str(target) in str(err.value) and "\n" not in str(err.value)
     assert target.exists()
+
+
+# -- LEDs picked by colour ------------------------------------------------------------------------
+def _carry(frame, picked, to):
+    """Independent model, LED by LED: the picked LEDs go to ``to(r, c)`` (None: off the panel), the
+    places they leave turn off, the rest stays."""
+    rows, cols = frame.shape
+    out = [[int(v) for v in row] for row in frame]
+    for r, c in picked:
+        out[r][c] = OFF
+    landed = set()
+    for r, c in picked:
+        d = to(r, c)
+        if d is not None and 0 <= d[0] < rows and 0 <= d[1] < cols:
+            out[d[0]][d[1]] = int(frame[r, c])
+            landed.add(d)
+    return np.array(out, np.uint8), landed
+
+
+@pytest.mark.parametrize("seed", range(12))
+def test_picked_leds_move_like_an_led_by_led_model(seed):
+    """Random panels (square or not), colours, and a random sequence of shifts (with and without wrap),
+    mirrors and, on square panels, rotations: only the picked LEDs move, the picks follow them, and
+    undo brings back every picture and every pick."""
+    rng = np.random.default_rng(1000 + seed)
+    rows, cols = (int(rng.integers(2, 9)),) * 2 if seed % 3 == 0 else (int(rng.integers(2, 9)), int(rng.integers(2, 13)))
+    anim = Animation(rng.integers(0, 4, (2, rows, cols), dtype=np.uint8), np.array([100, 100]))
+    other = anim.frames[1].copy()
+    s = Session(anim, load_profile("bench-8x8"))
+    colour = int(rng.integers(0, 4))
+    frame = anim.frames[0].copy()
+    picked = {(r, c) for r in range(rows) for c in range(cols) if frame[r, c] == colour}
+    if not picked:
+        with pytest.raises(InputError):
+            s.pick_colour(colour)
+        return
+    s.pick_colour(colour)
+    steps = []                                  # (picture, picks) before each edit that changed the picture
+    for _ in range(6):
+        before = (frame.copy(), set(picked))
+        kind = int(rng.integers(0, 4 if rows == cols else 3))
+        if kind == 0:
+            dr, dc = [(-1, 0), (1, 0), (0, -1), (0, 1)][int(rng.integers(0, 4))]
+            s.wrap = bool(rng.integers(0, 2))
+            wrap = s.wrap
+            s.shift(dr, dc)
+            to = (lambda r, c, dr=dr, dc=dc: ((r + dr) % rows, (c + dc) % cols)) if wrap else \
+                (lambda r, c, dr=dr, dc=dc: (r + dr, c + dc))
+        elif kind == 1:
+            s.mirror("horizontal")
+            to = lambda r, c: (r, cols - 1 - c)                      # noqa: E731
+        elif kind == 2:
+            s.mirror("vertical")
+            to = lambda r, c: (rows - 1 - r, c)                      # noqa: E731
+        else:
+            s.rotate(1)                                              # a quarter turn clockwise
+            to = lambda r, c: (c, rows - 1 - r)                      # noqa: E731
+        frame, picked = _carry(frame, picked, to)
+        assert np.array_equal(s.frame, frame)
+        got = s.picked_mask()
+        assert {(int(r), int(c)) for r, c in zip(*np.nonzero(got))} == picked
+        if not np.array_equal(before[0], frame):   # picked off LEDs over off ones: only the picks moved
+            steps.append(before)
+    assert np.array_equal(s.anim.frames[1], other)                 # the other frame was never touched
+    assert len(s.history) == len(steps)
+    while steps:
+        s.undo()
+        picture, picks = steps.pop()
+        assert np.array_equal(s.frame, picture)
+        assert {(int(r), int(c)) for r, c in zip(*np.nonzero(s.picked_mask()))} == picks

@@ -25,11 +25,11 @@ __all__ = ["ScanSpeed", "scan_speed", "row_irq_cycles", "F_CPU_HZ", "ROW_IRQ_BAS
 F_CPU_HZ = 16_000_000          # firmware_stub/Makefile F_CPU: an ATmega328P-class board at 16 MHz
 # Mean cycles of one row interrupt for B bytes a slot: BASE + PER_BYTE * B (interrupt response and RETI
 # included; the once-a-scan frame swap spread over the scan). Measured in simavr with a short blanking:
-# 79 for 3 bytes, 113 for 5, 196.5 for 10 (tests/bench/bench_firmware.py; 162, 198 and 287 before the
+# 84.5 for 3 bytes, 118.5 for 5, 202.3 for 10 (tests/bench/bench_firmware.py; 162, 198 and 287 before the
 # hand-written interrupt): the shift writes a byte every 17 cycles against the SPI's 16
 # (firmware_stub/board/avr328p/row_tick.c); the fixed part is the blanking, latch, end-of-blanking timer,
-# watchdog and slot bookkeeping that do not fit in the gaps, and the return.
-ROW_IRQ_BASE_CYCLES = 28
+# watchdog, self-masking and slot bookkeeping that do not fit in the gaps, and the return.
+ROW_IRQ_BASE_CYCLES = 33
 ROW_IRQ_CYCLES_PER_BYTE = 17
 # A blanking longer than LIGHT_AT_ONCE_CYCLES (firmware_stub/board/avr328p/board_impl.h) ends in a
 # second, three-instruction interrupt: 4 cycles of response, JMP 3, SBIC 1, CBI 2, RETI 4 (ATmega328P

@@ -281,8 +281,8 @@ class Session:
         if not total:
             raise InputError(f"no {BRUSH_NAMES[colour]} LEDs {where}")
         self.leds, self.mark = LedPick(colour, masks), None
-        return (f"picked {total} {BRUSH_NAMES[colour]} LED{'s' if total != 1 else ''} {where}: c copy, x cut, "
-                "del turn off, shifts and mirrors move them, Esc unpicks")
+        # short enough for the status line at 80 columns; the help says what acts on them
+        return f"picked {total} {BRUSH_NAMES[colour]} LED{'s' if total != 1 else ''} {where} (esc unpicks)"
 
     def unpick(self) -> bool:
         """Clear the mark and the LEDs picked by colour; False when there was neither."""
@@ -343,9 +343,10 @@ class Session:
                 for i in sorted(masks):
                     a.frames[i] = one(i, a.frames[i])
             edited = self.edit_animation(f"{name} in {_frames(len(masks))}", each, keep_leds=True)
+        self.leds = LedPick(before.colour, masks)
         if edited is not None:
-            self.leds = LedPick(before.colour, masks)
             self._record_leds(before)
+        # else the picture stayed (picked off LEDs moved over off LEDs): only the picks moved, no undo step
         return edited
 
     def shift(self, d_rows: int, d_cols: int) -> Edited | None:

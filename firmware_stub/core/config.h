@@ -16,8 +16,8 @@
 #define RC_MAX_BYTES_PER_ROW 10u
 #endif
 
-/* Shortest row period the scan interrupt is given: at 16 MHz the row interrupt takes about 28 + 17 cycles
- * a byte of the slot (79 for 3 bytes, 196.5 for 10; tests/bench/bench_firmware.py), so 20 us (320 cycles)
+/* Shortest row period the scan interrupt is given: at 16 MHz the row interrupt takes about 33 + 17 cycles
+ * a byte of the slot (84.5 for 3 bytes, 202.3 for 10; tests/bench/bench_firmware.py), so 20 us (320 cycles)
  * still leaves the main loop time to decode the serial stream for short chains. Long chains need longer
  * rows: rowcast check names the shortest row that keeps the scan within 30 % of the core. */
 #ifndef RC_MIN_ROW_PERIOD_US

@@ -59,8 +59,11 @@ void board_tick_start(uint16_t row_period_us, uint32_t blanking_ns)
     rc_slot_rest = (uint8_t)(bpr > 3u ? bpr - 3u : 0u);
     GPIOR0 = (uint8_t)((small ? _BV(RC_SMALL_BIT) : 0) | (bpr >= 2u ? _BV(RC_B2_BIT) : 0) |
                        (bpr >= 3u ? _BV(RC_B3_BIT) : 0) | (rc_scan.next == rc_scan.end ? _BV(RC_WRAP_BIT) : 0));
-    /* A short blanking ends inside the row interrupt: compare B's interrupt would only cost time. */
-    TIMSK1 = (uint8_t)(_BV(OCIE1A) | (small ? 0 : _BV(OCIE1B)));
+    /* A short blanking ends inside the row interrupt: compare B's interrupt would only cost time. The
+     * row interrupt masks itself with GPIOR1 and unmasks with GPIOR2 (row_tick.c). */
+    GPIOR1 = (uint8_t)(small ? 0 : _BV(OCIE1B));
+    GPIOR2 = (uint8_t)(_BV(OCIE1A) | GPIOR1);
+    TIMSK1 = GPIOR2;
     TCCR1B = _BV(WGM12) | _BV(CS10);                /* CTC on OCR1A, no prescaler */
 }
 

@@ -1,7 +1,7 @@
 /* The row interrupt of the ATmega328P-class board, written instruction by instruction.
  *
  * It does what core/scan.h does for the host build (blank, latch, end of blanking armed, watchdog fed,
- * the swap to a shown frame between scans only, the next slot shifted) in about 28 + 17 cycles a byte
+ * the swap to a shown frame between scans only, the next slot shifted) in about 33 + 17 cycles a byte
  * of the slot (simavr, tests/bench/bench_firmware.py), against 108 + 18 a byte for the compiled
  * version. Where the cycles went and how they came back:
  *   - registers: the handler works in r2..r8, which the whole AVR build keeps out of the compiler's
@@ -53,8 +53,17 @@ extern uint8_t rc_slot_rest;
     "lds r5, %[blank]+1\n\t"        /* 2 */ \
     "adc r7, r5\n\t"                /* 1 */
 
-/* Compare B armed, its flag cleared, a short blanking ended here, the watchdog fed, interrupts on.
- * 10 cycles (11 when the panel lights here). */
+/* With interrupts on, a row period shorter than this handler plus the serial handlers nested in it
+ * (20 us rows, 10-byte slots and traffic both ways come close) would let compare A nest in itself and
+ * overwrite r2..r8. So its interrupt is off from here to the return: a late compare A then waits and
+ * runs right after (one row a little short), as any interrupt that comes while another runs.
+ * GPIOR1 holds TIMSK1 without OCIE1A, GPIOR2 with it (board_tick_start). */
+#define RC_MASK_SELF \
+    "in r7, %[gpior1]\n\t"          /* 1 */ \
+    "sts %[timsk], r7\n\t"          /* 2 */
+
+/* Compare B armed, its flag cleared, a short blanking ended here, the watchdog fed, the row
+ * interrupt itself masked, interrupts on. 13 cycles (14 when the panel lights here). */
 #define RC_UNBLANK_ARM \
     "sts %[ocr]+1, r7\n\t"          /* 2  high byte first (16-bit register access through TEMP) */ \
     "sts %[ocr], r6\n\t"            /* 2 */ \
@@ -62,6 +71,7 @@ extern uint8_t rc_slot_rest;
     "sbic %[gpior], %[light]\n\t"   /* 2 skip / 1 */ \
     "cbi %[port], %[oe]\n\t"        /* 2  cycle 47: lit (outputs on and a blanking <= 40 cycles) */ \
     "wdr\n\t"                       /* 1 */ \
+    RC_MASK_SELF                    /* 3 */ \
     "sei\n\t"                       /* 1  the serial interrupts may come in from here */
 
 /* 10 cycles of padding in the shift loops. */
@@ -89,19 +99,19 @@ ISR(TIMER1_COMPA_vect, ISR_NAKED)
         "ld r5, Z+\n\t"                     /* 37 2 */
         "out %[spdr], r5\n\t"               /* 39 1  byte 2, 17 after byte 1 */
         ".Lrc_arm%=:\n\t"
-        RC_UNBLANK_ARM                      /* 40 10 */
-        "lds r8, %[rest]\n\t"               /* 50 2  bytes after byte 3 */
-        "sbis %[gpior], %[b3]\n\t"          /* 52 2  (1 and the jump for slots under 3 bytes) */
+        RC_UNBLANK_ARM                      /* 40 13 */
+        "lds r8, %[rest]\n\t"               /* 53 2  bytes after byte 3 */
+        "sbis %[gpior], %[b3]\n\t"          /* 55 2  (1 and the jump for slots under 3 bytes) */
         "rjmp .Lrc_tail%=\n\t"
         ".Lrc_loop%=:\n\t"
-        "ld r5, Z+\n\t"                     /* 54 2 */
-        "out %[spdr], r5\n\t"               /* 56 1  byte 3 (then every 17 cycles) */
+        "ld r5, Z+\n\t"                     /* 57 2 */
+        "out %[spdr], r5\n\t"               /* 59 1  byte 3, 20 after byte 2 (then every 17 cycles) */
         "dec r8\n\t"                        /*  1 */
         "brmi .Lrc_tail%=\n\t"              /*  1 (2 when it was the last) */
         RC_PAD10                            /* 10 */
         "rjmp .Lrc_loop%=\n\t"              /*  2  + ld 2: 17 from OUT to OUT */
         /* -- every path ends here: Z is the slot after the one shifted; the last byte is still on
-         *    the wire (the next latch is a row period away). 15 cycles with the RETI. -- */
+         *    the wire (the next latch is a row period away). 18 cycles with the RETI. -- */
         ".Lrc_tail%=:\n\t"
         "sts %[next], r30\n\t"              /*  2 */
         "sts %[next]+1, r31\n\t"            /*  2 */
@@ -110,7 +120,9 @@ ISR(TIMER1_COMPA_vect, ISR_NAKED)
         "brne 1f\n\t"                       /*  2 (1) */
         "sbi %[gpior], %[wrap]\n\t"         /*    2  the next tick ends the scan */
         "1:\n\t"
-        "out __SREG__, r4\n\t"              /*  1 */
+        "out __SREG__, r4\n\t"              /*  1  interrupts off again (I was 0 when it was saved) */
+        "in r6, %[gpior2]\n\t"              /*  1  compare A's interrupt back on: a match that came */
+        "sts %[timsk], r6\n\t"              /*  2  meanwhile is served after the RETI */
         "movw r30, r2\n\t"                  /*  1 */
         "reti\n\t"                          /*  4 */
         /* -- one-byte slots: 2 cycles for the ld that did not happen, so the arming is at the
@@ -126,14 +138,14 @@ ISR(TIMER1_COMPA_vect, ISR_NAKED)
         "lds r31, %[front]+1\n\t"           /* 24 2 */
         "lds r8, %[show]\n\t"               /* 26 2  0 or 1 */
         "lds r7, %[swap]\n\t"               /* 28 2  0 or 1 */
-        "and r7, r8\n\t"                    /* 30 1 */
-        "bst r7, 0\n\t"                     /* 31 1  T: swap now (SREG is saved in r4) */
-        "brtc 1f\n\t"                       /* 32 1 (2) */
+        "bst r8, 0\n\t"                     /* 30 1  T: a SHOW waits (SREG is saved in r4) */
+        "and r7, r8\n\t"                    /* 31 1  ... with a fresh frame: swap now */
+        "breq 1f\n\t"                       /* 32 1 (2) */
         "lds r30, %[back]\n\t"              /* 33 2 */
         "lds r31, %[back]+1\n\t"            /* 35 2 */
         "rjmp 2f\n\t"                       /* 37 2 */
-        "1: rjmp .+0\n\t"                   /* 34 5: the same 39 as with the swap */
-        "rjmp .+0\n\t"
+        "1: cbi %[gpior], %[wrap]\n\t"      /* 34 5: the same 39 as with the swap (which clears */
+        "rjmp .+0\n\t"                      /*       the flag in .Lrc_show) */
         "nop\n\t"
         "2: ld r5, Z+\n\t"                  /* 39 2 */
         "out %[spdr], r5\n\t"               /* 41 1  byte 1 */
@@ -153,17 +165,19 @@ ISR(TIMER1_COMPA_vect, ISR_NAKED)
         "sts %[ocr], r6\n\t"                /* 61 2 */
         "sbi %[tifr], %[ocf]\n\t"           /* 63 2  a blanking over 40 matches at 42 + 41 or later */
         "wdr\n\t"                           /* 65 1 */
-        "sei\n\t"                           /* 66 1 */
-        "cbi %[gpior], %[wrap]\n\t"         /* 67 2 */
-        "sbrc r8, 0\n\t"                    /* 69 2  a SHOW waits: served now */
-        "rjmp .Lrc_show%=\n\t"
+        RC_MASK_SELF                        /* 66 3 */
+        "sei\n\t"                           /* 69 1 */
+        "brts .Lrc_show%=\n\t"              /* 70 1  a SHOW waits: served now */
         ".Lrc_more%=:\n\t"
         "lds r8, %[rest]\n\t"               /* 71 2 */
-        "sbis %[gpior], %[b3]\n\t"          /* 73 2 */
+        "sbic %[gpior], %[b3]\n\t"          /* 73 1 */
+        "rjmp .Lrc_loop%=\n\t"              /* 74 2  byte 3 at 78 */
         "rjmp .Lrc_tail%=\n\t"
-        "rjmp .Lrc_loop%=\n\t"              /* 75 2  byte 3 at 79 */
         ".Lrc_show%=:\n\t"                  /* once a SHOW: swap the buffers if a frame waits, outputs on */
-        "brtc 4f\n\t"
+        "cbi %[gpior], %[wrap]\n\t"
+        "lds r7, %[swap]\n\t"
+        "tst r7\n\t"
+        "breq 4f\n\t"
         "lds r6, %[front]\n\t"
         "lds r7, %[front]+1\n\t"
         "lds r5, %[back]\n\t"
@@ -193,7 +207,8 @@ ISR(TIMER1_COMPA_vect, ISR_NAKED)
           [gpior] "I"(_SFR_IO_ADDR(GPIOR0)), [wrap] "I"(RC_WRAP_BIT), [b2] "I"(RC_B2_BIT),
           [b3] "I"(RC_B3_BIT), [light] "I"(RC_LIGHT_BIT), [small] "I"(RC_SMALL_BIT),
           [outbit] "I"(RC_OUTPUTS_BIT), [spdr] "I"(_SFR_IO_ADDR(SPDR)), [tifr] "I"(_SFR_IO_ADDR(TIFR1)),
-          [ocf] "I"(OCF1B), [tcnt] "n"(_SFR_MEM_ADDR(TCNT1L)), [ocr] "n"(_SFR_MEM_ADDR(OCR1BL)),
+          [ocf] "I"(OCF1B), [gpior1] "I"(_SFR_IO_ADDR(GPIOR1)),
+          [gpior2] "I"(_SFR_IO_ADDR(GPIOR2)), [timsk] "n"(_SFR_MEM_ADDR(TIMSK1)), [tcnt] "n"(_SFR_MEM_ADDR(TCNT1L)), [ocr] "n"(_SFR_MEM_ADDR(OCR1BL)),
           [blank] "i"(&rc_blank_cycles), [rest] "i"(&rc_slot_rest), [next] "i"(&rc_scan.next),
           [end] "i"(&rc_scan.end), [front] "i"(&rc_scan.front), [back] "i"(&rc_scan.back),
           [show] "i"(&rc_scan.show_req), [swap] "i"(&rc_scan.swap_req), [outputs] "i"(&rc_scan.outputs),
