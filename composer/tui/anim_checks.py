@@ -81,8 +81,9 @@ class AnimationChecks(_Editor):
         self.app.call_from_thread(self.pattern_fix_found, profile, serial, fix)
 
     def _animation_checked(self, notes: list[str], serial: int) -> None:
-        if serial != self.session.history.serial:
-            return                      # the animation changed meanwhile; a newer check is queued
+        if serial != self.session.history.serial or not self.query(Readout):
+            return                      # the animation changed meanwhile (a newer check is queued), or
+                                        # this editor was replaced
         self.animation_notes = notes
         s = self.session
         self.query_one(Readout).show(self.checks, s.current, int(s.anim.durations_ms[s.current]),

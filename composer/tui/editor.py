@@ -89,6 +89,8 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         self.call_after_refresh(self._first_check)
 
     def _first_check(self) -> None:
+        if not self.query(Readout):
+            return                            # replaced before its first paint (another pattern opened)
         if len(self.checks.results) != self.session.anim.n_frames:   # an edit may have checked them
             self.checks.full(self.session.anim)
         self.redraw(full=True)

@@ -82,7 +82,9 @@ class HeadroomActions(_Editor):
         """Fix lines for the frame on the canvas when it is over a limit (computed in a worker)."""
         s = self.session
         res = self.checks.results[s.current] if s.current < len(self.checks.results) else None
-        readout = self.query_one(Readout)
+        readout = next(iter(self.query(Readout)), None)
+        if readout is None:
+            return                            # a worker's answer for an editor that was replaced meanwhile
         if res is None or res.ok:
             readout.show_fix([])
             return
