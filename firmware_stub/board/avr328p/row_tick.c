@@ -10,6 +10,7 @@
  *     (MOVW, 1 cycle each way), SREG to r4.
  *   - the bookkeeping, the end-of-blanking timer and the watchdog run in the gaps while the SPI
  *     shifts a byte, not before the first byte; the last byte is left shifting.
+ *   - while interrupts are on (from cycle 52) the handler masks its own interrupt (RC_MASK_SELF).
  *   - the end of a scan is a flag in GPIOR0 set by the tick before (one SBIC here); the rare path
  *     (once a scan) picks the buffer first and ends the blanking at the same cycle; it swaps the
  *     buffers while byte 2 shifts. rc_scan.scans is not counted here: nothing on the board reads it
@@ -28,7 +29,8 @@
  * the distance from the blanking SBI at cycle 7 to the CBI at cycle 47) is served here: at the CBI
  * the blanking has passed, whatever the delay of the tick (the distance is fixed: interrupts stay off
  * until the SEI after it), and compare B's interrupt is off (board_tick_start). A longer blanking
- * matches after cycle 24 + 41 = 65, well after the flag is cleared, so compare B always sees it.
+ * matches after cycle 24 + 41 = 65, well after the flag is cleared, so compare B always sees it (the
+ * once-a-scan path reads the counter at 42 and clears the flag at 63: 42 + 41 = 83, after it too).
  * This replaces the C version's second read of the counter: the same guarantee, decided once at
  * CONFIGURE instead of every row.
  *
