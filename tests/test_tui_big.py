@@ -6,6 +6,7 @@ the overview (half blocks, two rows a line) look right (snapshots accepted after
 """
 from __future__ import annotations
 
+import unicodedata
 from pathlib import Path
 
 import numpy as np
@@ -131,6 +132,63 @@ async def test_compact_and_overview_show_more_of_the_panel(tmp_path, size):
         await pilot.pause()
         text = screen_text(app)
         assert ed.canvas.mode == "normal" and "row 1 col 40 · onion" in text and "link to the panel" in text
+
+
+_HALVES = {"SPACE": "", "FULL BLOCK": "UL UR LL LR", "UPPER HALF BLOCK": "UL UR", "LOWER HALF BLOCK": "LL LR",
+           "LEFT HALF BLOCK": "UL LL", "RIGHT HALF BLOCK": "UR LR"}
+_QUARTER = {"UPPER LEFT": "UL", "UPPER RIGHT": "UR", "LOWER LEFT": "LL", "LOWER RIGHT": "LR"}
+
+
+def quadrants_of(char: str) -> set[str]:
+    """The filled quadrants of a character, read from its name in the Unicode Character Database
+    (Python's unicodedata; the Block Elements chart: QUADRANT UPPER LEFT AND LOWER RIGHT, LEFT HALF BLOCK...)."""
+    name = unicodedata.name(char)
+    if name in _HALVES:
+        return set(_HALVES[name].split())
+    assert name.startswith("QUADRANT "), name
+    return {_QUARTER[part] for part in name.removeprefix("QUADRANT ").split(" AND ")}
+
+
+def quadrants_for(upper: int, lower: int) -> set[str]:
+    """What the overview must fill without colour: the upper LED in the top quadrants, the lower LED in
+    the bottom ones, the red die left, the green die right (amber: both)."""
+    return ({"UL"} if upper & 1 else set()) | ({"UR"} if upper & 2 else set()) | \
+        ({"LL"} if lower & 1 else set()) | ({"LR"} if lower & 2 else set())
+
+
+@pytest.mark.parametrize("size", SIZES, ids=lambda s: f"{s[0]}x{s[1]}")
+@async_test
+async def test_overview_without_colour_reads_by_shape(tmp_path, monkeypatch, size):
+    """NO_COLOR (no-color.org): the overview's half blocks differ only by colour, so without colour it
+    draws quadrant blocks whose shapes tell off, red, green and amber apart for both LEDs of a cell."""
+    monkeypatch.setenv("NO_COLOR", "1")
+    app = app_for(make_sign(tmp_path))
+    assert app.no_color
+    async with app.run_test(size=size) as pilot:
+        await pilot.press("n", "n")
+        await pilot.pause()
+        ed = _editor(app)
+        assert ed.canvas.mode == "overview" and ed.canvas.window() == (ROWS, COLS)
+        frame = ed.session.frame
+        assert {int(v) for v in np.unique(frame)} == {0, 1, 2, 3}             # all four states on the panel
+        lines = screen_text(app).splitlines()
+        x = ed.canvas.region.x + 1 + GUTTER_W
+        seen = set()
+        for pair in range(ROWS // 2):
+            y = ed.canvas.region.y + 2 + pair
+            for c in range(COLS):
+                upper, lower = int(frame[2 * pair, c]), int(frame[2 * pair + 1, c])
+                assert quadrants_of(lines[y][x + c]) == quadrants_for(upper, lower), (2 * pair, c)
+                seen.add((upper, lower))
+        assert len(seen) >= 8                                                # many pairs of states checked
+        text = "\n".join(lines)
+        assert "blocks: upper LED top" in text                               # the legend on the status line
+        await pilot.press(*["l"] * 9, "j", "j", "j")                       # the cursor to row 3, column 9
+        await pilot.pause()
+        assert ed.session.cursor == (3, 9)
+        strip = list(app.screen._compositor.render_strips())[ed.canvas.region.y + 2 + 3 // 2]
+        cell = [seg for seg in strip.crop(x + 9, x + 10) if seg.text][0]      # two rows a line: rows 2 and 3
+        assert quadrants_of(cell.text) == quadrants_for(int(frame[2, 9]), int(frame[3, 9])) and cell.style.reverse
 
 
 def _sign_app(tmp_path, monkeypatch):

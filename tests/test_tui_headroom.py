@@ -3,9 +3,11 @@ strip's marks, the LED under the cursor, the guard line's frame number, and the 
 profile written, the pattern moved to it, undo brings the old one back)."""
 from __future__ import annotations
 
+import dataclasses
 from pathlib import Path
 
 import numpy as np
+import pytest
 
 from composer.electrical import analyse, led_currents
 from composer.model import Animation
@@ -139,3 +141,99 @@ async def test_fix_key_writes_a_profile_points_the_pattern_at_it_and_undo_restor
         await pilot.press("Z")                            # redo: on the fix again
         await pilot.pause()
         assert s.profile.name == target.stem
+
+
+# ------------------------------------------------------------------------------------------------
+# A 32-row panel: the readout draws its rows as a column chart; its columns against a hand model
+# ------------------------------------------------------------------------------------------------
+_CHART_LEVELS = " ▁▂▃▄▅▆▇█"
+
+
+def _tall_profile(folder: Path) -> Path:
+    """32 rows x 32 columns: the bundled tiled-32x16 sign with two more row registers (rows 16-31)."""
+    from composer.profile import PROFILES_DIR
+    text = (PROFILES_DIR / "tiled-32x16.toml").read_text()
+    extra = "".join(f'[[chain.register]]\nname = "U{11 + k} rows {8 * m}-{8 * m + 7}"\ndrives = "rows"\n'
+                    f'lines = {list(range(8 * m, 8 * m + 8))}\nactive = "high"\n\n' for k, m in enumerate((2, 3)))
+    text = (text.replace('name = "tiled-32x16"', 'name = "tall-32x32"').replace("rows = 16\n", "rows = 32\n", 1)
+            .replace('[[chain.register]]\nname = "U3 red 0-7"', extra + '[[chain.register]]\nname = "U3 red 0-7"', 1))
+    path = folder / "tall-32x32.toml"
+    path.write_text(text)
+    assert load_profile(path).rows == 32
+    return path
+
+
+def _stress_equivalent(prof):
+    """The profile with the stress corner's values written in, for the hand model (which reads the
+    nominal ones): supply at plus its tolerance, resistors at minus theirs, each LED's datasheet curve
+    moved so it passes through vf_min at the test current (common practice for the worst case of current)."""
+    from tests.test_headroom import _v_led
+    sup = dataclasses.replace(prof.supply, voltage_v=prof.supply.voltage_v * (1 + prof.supply.tolerance_pct / 100))
+    parts = {k: dataclasses.replace(r, ohms=r.ohms * (1 - r.tolerance_pct / 100)) for k, r in prof.resistor.parts.items()}
+    leds = {}
+    for colour, led in prof.leds.items():
+        dv = led.vf_min_v - _v_led(led.iv_points, led.test_current_ma)
+        leds[colour] = dataclasses.replace(led, iv_points=tuple((i, v + dv) for i, v in led.iv_points))
+    return dataclasses.replace(prof, supply=sup, resistor=dataclasses.replace(prof.resistor, parts=parts), leds=leds)
+
+
+@async_test
+async def test_tall_panel_column_chart_against_a_hand_model(tmp_path):
+    """Row r lights m = r % 9 red LEDs in each of k = 1 + (r // 9) % 4 red registers. Each column of the
+    chart must show that row's nearest limit as the hand model (tests/test_headroom.py: datasheet curve,
+    KVL and KCL by bisection) works it out from the row currents, and the worst row's current must match."""
+    from tests.test_headroom import hand_row
+    profile_path = _tall_profile(tmp_path)
+    prof = load_profile(profile_path)
+    frame = np.zeros((32, 32), np.uint8)
+    counts = []
+    for r in range(32):
+        m, k = r % 9, 1 + (r // 9) % 4
+        for reg in range(k):                    # red registers drive columns 0-7, 8-15, 16-23, 24-31
+            frame[r, 8 * reg:8 * reg + m] = 1
+        counts.append((m, k))
+    anim = Animation(frame[None], np.array([100]), name="tall", profile="tall-32x32.toml")
+    path = tmp_path / "tall.rowcast.toml"
+    save_pattern(anim, path)
+
+    hand = _stress_equivalent(prof)
+    sc = prof.scan
+    duty = (sc.row_period_us - sc.blanking_us) / sc.row_period_us / prof.rows      # common practice
+    want, row_ma = [], []
+    for m, k in counts:
+        i_led, _, i_row = hand_row(hand, m * k, 0)
+        row_ma.append(i_row)
+        # each part of the row against its own limit (the profile's datasheet values): a register pin
+        # (74HC family 35 mA, common practice), a register package (70 mA, from memory), the LED's peak
+        # (100 mA pulsed at 1/10 duty; below 1/10 duty the pulsed rating applies) and average (20 mA),
+        # the driver channel (500 mA absolute maximum: at 1/32 duty it binds before the thermal
+        # allowance), the supply while the row is on (its 750 mA budget)
+        parts = [i_led / prof.column_register.pin_abs_max_ma, m * i_led / prof.column_register.package_abs_max_ma,
+                 i_led / prof.leds["red"].max_peak_ma, i_led * duty / prof.leds["red"].max_continuous_ma,
+                 i_row / prof.row_driver.channel_abs_max_ma, i_row / prof.supply.budget_ma]
+        want.append(max(parts) if m else 0.0)
+
+    app = app_for(path)
+    async with app.run_test(size=(160, 50)) as pilot:
+        await pilot.pause()
+        await pilot.pause()
+        lines = screen_text(app).splitlines()
+        head = next(i for i, line in enumerate(lines) if "a column a row" in line)
+        over_line, limit_line, digits = lines[head + 1], lines[head + 2], lines[head + 3]
+        over = over_line[over_line.index("  over ") + 7:][:32]
+        limit = limit_line[limit_line.index(" limit ") + 7:][:32]
+        assert digits[digits.index("row ") + 4:][:32] == "".join(str(r % 10) for r in range(32))
+        for r, u in enumerate(want):
+            low, high = _CHART_LEVELS.index(limit[r]), _CHART_LEVELS.index(over[r])
+            # one column a row: the lower line rises to 100 % in eighths, the upper one shows the excess;
+            # the hand model agrees with the engine within 2 %, so a level may differ by rounding only
+            assert abs(low - min(8.0, 8 * u)) <= 0.5 + 0.16 * u, (r, u, low)
+            assert (low > 0) == (u > 0), (r, u, low)
+            if abs(u - 1) > 0.03:
+                assert (high > 0) == (u > 1) and abs(high - min(8.0, max(0.0, 8 * (u - 1)))) <= 0.5 + 0.16 * u, \
+                    (r, u, high)
+        worst = int(np.argmax(row_ma))
+        text = "\n".join(lines)
+        said = float(text.split(f"worst row {worst}: ")[1].split(" mA")[0])
+        assert said == pytest.approx(row_ma[worst], rel=0.02)
+        assert any(u > 1 for u in want) and any(0 < u < 1 for u in want)   # both lines of the chart in use

@@ -12,7 +12,6 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..electrical import analyse as _analyse
 from ..model import Animation
 from ..profile import Profile
 
@@ -75,9 +74,13 @@ class FrameChecks:
     row_limit_ma: float | None = None
     _by_content: dict[bytes, FrameResult] = field(default_factory=dict)
     analysed_frames: int = 0      # how many frames went through the engine (the benchmark reads it)
+    # the summaries below, kept until the results change: every key redraws the frame strip, and
+    # a 10,000-frame pattern made each cursor move rebuild 10,000-entry lists
+    _summaries: dict[str, object] = field(default_factory=dict)
 
     def _run(self, frames: np.ndarray, durations: np.ndarray):
         # The stress corner, as rowcast check and the link's guard judge: a frame marked ok here is sent.
+        from ..electrical import analyse as _analyse   # imported here: the editor paints before the engine loads
         report = _analyse(frames, durations, self.profile, corner=CORNER)
         self.analysed_frames += frames.shape[0]
         limit = getattr(report, "row_limit_ma", None)
@@ -98,6 +101,7 @@ class FrameChecks:
             for i, res in zip(missing, _split(report, len(missing))):
                 self._by_content[keys[i]] = res
         self.results = [self._by_content[k] for k in keys]
+        self._summaries.clear()
         if len(self._by_content) > 4 * max(64, anim.n_frames):   # keep the cache bounded
             live = set(keys)
             self._by_content = {k: v for k, v in self._by_content.items() if k in live}
@@ -113,21 +117,33 @@ class FrameChecks:
             report = self._run(anim.frames[index:index + 1], anim.durations_ms[index:index + 1])
             res = _split(report, 1)[0]
             self._by_content[key] = res
-        self.results[index] = res
+        if self.results[index] is not res:
+            self.results[index] = res
+            self._summaries.clear()
 
     # -- summaries --------------------------------------------------------------------------
+    def _summary(self, name: str, make):
+        hit = self._summaries.get(name)
+        if hit is None:
+            hit = self._summaries[name] = make()
+        return hit
+
     def verdicts(self) -> list[str | None]:
-        """Per frame: None unknown, "" within limits, else the binding rule (the one furthest over)."""
-        return [None if r is None else ("" if r.ok else (r.binding or (r.rules[0] if r.rules else "limit")))
-                for r in self.results]
+        """Per frame: None unknown, "" within limits, else the binding rule (the one furthest over).
+        The same list until the results change (do not modify it)."""
+        return self._summary("verdicts", lambda: [
+            None if r is None else ("" if r.ok else (r.binding or (r.rules[0] if r.rules else "limit")))
+            for r in self.results])
 
     def worst_rows(self) -> np.ndarray:
         return np.array([np.nan if r is None else r.worst_row_ma for r in self.results])
 
     def utilisations(self) -> np.ndarray:
         """Per frame the binding rule's utilisation (NaN not analysed yet): what the sparkline and
-        the frame strip's marks draw, so a frame over any limit always shows as over."""
-        return np.array([np.nan if r is None else r.utilisation for r in self.results])
+        the frame strip's marks draw, so a frame over any limit always shows as over. The same
+        array until the results change (do not modify it)."""
+        return self._summary("use", lambda: np.array([np.nan if r is None else r.utilisation
+                                                      for r in self.results]))
 
     def next_bad(self, after: int) -> int | None:
         n = len(self.results)

@@ -44,7 +44,8 @@ class AnimationChecks(_Editor):
         anim = self.session.anim
         self._animation_check(anim.frames.copy(), anim.durations_ms.copy(), self.session.history.serial)
 
-    @work(thread=True, exclusive=True, group="animation-check")
+    # a description: Textual otherwise builds one from repr() of the arguments, the whole animation
+    @work(thread=True, exclusive=True, group="animation-check", description="animation-wide checks")
     def _animation_check(self, frames: np.ndarray, durations: np.ndarray, serial: int) -> None:
         from ..electrical import analyse
         notes: list[str] = []
@@ -80,8 +81,9 @@ class AnimationChecks(_Editor):
         self.app.call_from_thread(self.pattern_fix_found, profile, serial, fix)
 
     def _animation_checked(self, notes: list[str], serial: int) -> None:
-        if serial != self.session.history.serial:
-            return                      # the animation changed meanwhile; a newer check is queued
+        if serial != self.session.history.serial or not self.query(Readout):
+            return                      # the animation changed meanwhile (a newer check is queued), or
+                                        # this editor was replaced
         self.animation_notes = notes
         s = self.session
         self.query_one(Readout).show(self.checks, s.current, int(s.anim.durations_ms[s.current]),
@@ -92,6 +94,8 @@ class AnimationChecks(_Editor):
         The guard sees one frame, so its findings say "frame 0"; they are named by the frame shown."""
         import dataclasses
         frame = self.session.frame
+        if len(self.checks.results) != self.session.anim.n_frames:
+            return []                         # before the first check (start-up): no engine yet
         key = (self.session.current, frame.tobytes())
         line = self._guard_cache.get(key)
         if line is None:

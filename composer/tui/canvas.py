@@ -2,7 +2,9 @@
 lines that changed.
 
 Every LED state has its own glyph as well as a colour, so the picture reads in 16-colour and
-NO_COLOR terminals: off ``·`` (dim), red ``●``, green ``▲``, amber ``◆``. With the onion skin on,
+NO_COLOR terminals: off ``·`` (dim), red ``●``, green ``▲``, amber ``◆``. The overview (two rows of
+LEDs a line) draws half blocks by colour; without colour it draws quadrant blocks instead, whose
+shapes tell the states apart (see ``_QUADRANTS``). With the onion skin on,
 an off LED that was lit in the previous frame shows that frame's hollow glyph (``○ △ ◇``, dim).
 The cursor is drawn in inverse colours, the selection (the region between the mark and the cursor, or
 the LEDs picked by colour) underlined.
@@ -17,6 +19,7 @@ the one the user edits. The device preview in the link panel is a plain :class:`
 from __future__ import annotations
 
 from functools import lru_cache
+from typing import TYPE_CHECKING
 
 import numpy as np
 from rich.segment import Segment
@@ -26,11 +29,13 @@ from textual.message import Message
 from textual.strip import Strip
 from textual.widget import Widget
 
-from ..electrical.light import Lit
 from ..model import AMBER, GREEN, OFF, RED
 
+if TYPE_CHECKING:                              # the light model loads when as-lit is first asked for
+    from ..electrical.light import Lit
+
 __all__ = ["LedView", "LedCanvas", "GLYPH", "HOLLOW", "COLOUR", "CELL_W", "GUTTER_W", "lit_shades",
-           "LIGHTNESS_STEPS", "MODES", "MODE_TEXT", "SCROLL_MARGIN"]
+           "LIGHTNESS_STEPS", "MODES", "MODE_TEXT", "SCROLL_MARGIN", "QUADRANT_LEGEND"]
 
 GLYPH = {OFF: "·", RED: "●", GREEN: "▲", AMBER: "◆"}
 HOLLOW = {OFF: "·", RED: "○", GREEN: "△", AMBER: "◇"}
@@ -89,6 +94,7 @@ def _lit_style(state: int, shade: int) -> Style:
 
 
 _DIM = Style(dim=True)
+_SEEN_LINES = 4096   # finished LED lines kept by content (a few hundred frames of a 16-row panel)
 SCROLL_MARGIN = 2   # LEDs kept in view beyond the cursor when the window moves with it
 # overview: two LEDs a terminal cell, the upper one the foreground of "▀", the lower one its background
 _HALF_OFF = "#3a3a3a"
@@ -98,6 +104,14 @@ MODES = ("normal", "compact", "overview")
 MODE_TEXT = {"normal": "normal cells", "compact": "compact cells (one character an LED)",
              "overview": "overview (two rows a line)"}
 _CELL_W = {"normal": CELL_W, "compact": 1, "overview": 1}
+
+
+# The overview without colour (NO_COLOR, a monochrome terminal): each pair of LEDs is one quadrant block
+# character, the upper LED in the cell's top quadrants, the lower LED in its bottom ones; the left
+# quadrant is the red die, the right one the green die, both amber, none (a space) off. All sixteen
+# pairs of states are sixteen shapes: every state reads without colour.
+_QUADRANTS = " ▘▝▀▖▌▞▛▗▚▐▜▄▙▟█"          # index: 1 upper left, 2 upper right, 4 lower left, 8 lower right
+QUADRANT_LEGEND = "blocks: upper LED top, lower LED bottom; left red, right green, both amber"
 
 
 @lru_cache(maxsize=None)
@@ -134,8 +148,8 @@ class LedView(Widget):
     A panel larger than the widget is drawn through a window: the frame, the row numbers and the
     column numbers stay put and the LEDs inside move (:meth:`show_window`); the top edge then says
     which rows and columns are in view. Three cell modes: ``normal`` (glyph and a space),
-    ``compact`` (one character an LED) and ``overview`` (half blocks: two rows of LEDs a line, by
-    colour alone).
+    ``compact`` (one character an LED) and ``overview`` (two rows of LEDs a line: half blocks by
+    colour, or quadrant blocks by their shape when the terminal shows no colour).
 
     The frame is drawn as part of each cached line rather than as a CSS border: a CSS border is
     re-rendered per line on every update and doubled the cost of redrawing a whole canvas.
@@ -157,6 +171,7 @@ class LedView(Widget):
         self._codes = np.zeros((rows, cols), np.uint32)
         self._shade: np.ndarray | None = None
         self._lines: dict[int, Strip] = {}          # finished lines of the current window, by y
+        self._seen: dict[tuple, Strip] = {}         # finished LED lines by what they show
         self._cells: dict[int, Strip] = {}          # a whole row's cells (normal / compact), by row
         self._base_style: Style | None = None
         self._styled: dict[int, tuple[str, Style, bool]] = {}
@@ -356,6 +371,8 @@ class LedView(Widget):
         return strip
 
     def _overview_cells(self, r: int, c0: int, vis_cols: int) -> list[Segment]:
+        if self.app.no_color:
+            return self._overview_quadrants(r, c0, vis_cols)
         rows = self._codes.shape[0]
         # state and cursor only: the overview shows colour by state, not as lit
         top = (self._codes[r, c0:c0 + vis_cols] & 0x1F).astype(np.int32)
@@ -369,6 +386,25 @@ class LedView(Widget):
         ends = np.concatenate((edges, [vis_cols])).tolist()
         for s, e in zip(starts, ends):
             segments.append(Segment("▀" * (e - s), base + _half(int(top[s]), int(bottom[s]))))
+        return segments
+
+    def _overview_quadrants(self, r: int, c0: int, vis_cols: int) -> list[Segment]:
+        """The overview as quadrant blocks (no colour): the LEDs' states by shape, the cursor in
+        inverse, the region underlined."""
+        top = self._codes[r, c0:c0 + vis_cols]
+        bottom = (self._codes[r + 1, c0:c0 + vis_cols] if r + 1 < self._codes.shape[0]
+                  else np.zeros(vis_cols, np.uint32))
+        shape = ((top & 3) | ((bottom & 3) << 2)).tolist()
+        marks = (top | bottom) & (_CURSOR | _REGION)
+        base = self._base()
+        edges = np.flatnonzero(np.diff(marks)) + 1
+        starts = np.concatenate(([0], edges)).tolist()
+        ends = np.concatenate((edges, [vis_cols])).tolist()
+        segments = []
+        for s, e in zip(starts, ends):
+            mark = int(marks[s])
+            style = base + Style(reverse=bool(mark & _CURSOR) or None, underline=bool(mark & _REGION) or None)
+            segments.append(Segment("".join(_QUADRANTS[k] for k in shape[s:e]), style))
         return segments
 
     def _row_line(self, y: int, vis_rows: int, vis_cols: int, inner: int) -> Strip:
@@ -389,6 +425,7 @@ class LedView(Widget):
         self._base_style = None               # a theme, class or focus change restyles every line
         self._frame_st = None
         self._lines.clear()
+        self._seen.clear()
         self._cells.clear()
         self.refresh()
 
@@ -406,11 +443,24 @@ class LedView(Widget):
         elif y == 1:
             strip = self._header(vis_cols, inner)
         elif 2 <= y < lines + 2:
-            strip = self._row_line(y, vis_rows, vis_cols, inner)
+            # lines are kept by what they show: stepping through frames that share rows (or back to
+            # a frame shown before) takes the finished line instead of drawing it again
+            r0, c0 = self.origin
+            r = r0 + (y - 2) * self.rows_per_line
+            key = (y, self.origin, self.mode, width, inner, vis_cols, self._codes.shape,
+                   self._codes[r:r + self.rows_per_line, c0:c0 + vis_cols].tobytes())
+            strip = self._seen.get(key)
+            if strip is None:
+                strip = self._row_line(y, vis_rows, vis_cols, inner)
+                if len(self._seen) >= _SEEN_LINES:
+                    self._seen.clear()
+                self._seen[key] = strip
         else:
             return Strip.blank(width, self._base())
         if strip.cell_length != width:
             strip = strip.crop(0, width).extend_cell_length(width, self._base())
+            if 2 <= y < lines + 2:
+                self._seen[key] = strip
         self._lines[y] = strip
         return strip
 

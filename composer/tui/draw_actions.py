@@ -34,12 +34,12 @@ class DrawActions(_Editor):
     def set_cells(self, mode: str) -> None:
         """The overview is for seeing the whole panel: it takes the width of the side panes (n or g
         brings them back)."""
-        from .canvas import MODE_TEXT
+        from .canvas import MODE_TEXT, QUADRANT_LEGEND
         self.canvas.set_mode(mode)
         self.set_class(mode == "overview", "-overview")
         self._update_tool()
-        self.say(f"canvas: {MODE_TEXT[mode]}" + (" · n: normal cells and the readout again"
-                                                 if mode == "overview" else ""))
+        what = "overview · " + QUADRANT_LEGEND if mode == "overview" and self.app.no_color else MODE_TEXT[mode]
+        self.say(f"canvas: {what}" + (" · n: normal cells and the readout again" if mode == "overview" else ""))
 
     def action_brush(self, state: int) -> None:
         self.session.brush = state

@@ -50,6 +50,7 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         self.playing = False
         self._play_timer = None
         self._anim_check_timer = None
+        self._fix_timer = None
         self._autosaved_serial = session.history.serial
         self.animation_notes: list[str] = []
         self.message = ""
@@ -78,12 +79,21 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         return LinkPanel(self.session.profile, self.startup.port, id="link-pane")
 
     def on_mount(self) -> None:
-        self.checks.full(self.session.anim)
+        # the picture first, the figures right after it: the engine loads and checks every frame
+        # once the editor is on screen (the readout says "analysing…" until then)
         self.redraw(full=True)
         self.query_one(LedCanvas).focus()
         self.query_one("#link-pane").frame_edited(self.session.frame)   # what live mode sends on connect
         if self.startup.autosave_enabled:
             self.set_interval(autosave.AUTOSAVE_EVERY_S, self.autosave_tick)
+        self.call_after_refresh(self._first_check)
+
+    def _first_check(self) -> None:
+        if not self.query(Readout):
+            return                            # replaced before its first paint (another pattern opened)
+        if len(self.checks.results) != self.session.anim.n_frames:   # an edit may have checked them
+            self.checks.full(self.session.anim)
+        self.redraw(full=True)
         self.schedule_animation_check()
 
     # -- redrawing --------------------------------------------------------------------------

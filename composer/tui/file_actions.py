@@ -45,7 +45,7 @@ class FileActions(_Editor):
         else:
             self._drop_autosave(self.session.path)
 
-    @work(thread=True, group="autosave")
+    @work(thread=True, group="autosave", description="write the autosave")   # not repr() of the text
     def _write_autosave(self, text: str, path: Path | None) -> None:
         try:
             autosave.write_autosave(text, path)

@@ -65,15 +65,29 @@ class FrameStrip(Widget, can_focus=False):
         self.selected: set[int] = set()
         self.playing = False
         self.marks: list[tuple[str, Style]] = []    # the headroom mark of every frame
+        self._frames_key: tuple | None = None
+        self._sources: tuple | None = None
 
     def update_frames(self, durations, verdicts, current: int, selected: set[int], playing: bool = False,
                       use=None) -> None:
-        use = use if use is not None else [np.nan] * len(verdicts)
-        marks = [_OVER if v else headroom_mark(u) for u, v in zip(use, verdicts)]   # v: a broken rule
-        state = ([int(d) for d in durations], list(verdicts), current, set(selected), playing, marks)
-        if state == (self.durations, self.verdicts, self.current, self.selected, self.playing, self.marks):
+        # the per-frame lists are rebuilt only when the verdicts, marks or durations changed (the
+        # checks hand over the same objects until then): a cursor move on a 10,000-frame pattern
+        # compares a few values, not 10,000
+        frames_key = (id(verdicts), id(use), np.asarray(durations).tobytes())
+        if frames_key != self._frames_key:
+            self._frames_key = frames_key
+            self._sources = (verdicts, use)          # kept, so the ids above are not reused
+            use = use if use is not None else [np.nan] * len(verdicts)
+            marks = [_OVER if v else headroom_mark(u) for u, v in zip(use, verdicts)]   # v: a broken rule
+            frames = ([int(d) for d in durations], list(verdicts), marks)
+            if frames != (self.durations, self.verdicts, self.marks):
+                self.durations, self.verdicts, self.marks = frames
+                self._frames_key = frames_key
+                self.current = -1                # draw again below
+        state = (current, set(selected), playing)
+        if state == (self.current, self.selected, self.playing):
             return                            # a cursor move: the strip stays as it is
-        self.durations, self.verdicts, self.current, self.selected, self.playing, self.marks = state
+        self.current, self.selected, self.playing = state
         self.refresh()
 
     def _first_visible(self) -> int:

@@ -16,7 +16,6 @@ from pathlib import Path
 from ..errors import RowcastError
 from .dialogs import AskText
 from .session import BRUSH_NAMES
-from .text_dialog import TextForm, TextRequest
 
 __all__ = ["GenerateActions"]
 
@@ -40,6 +39,7 @@ class GenerateActions(_Editor):
                                      "GIF frame becomes a frame)", "", check=check, id="ask-import"), done)
 
     def action_text_scroller(self) -> None:
+        from .text_dialog import TextForm, TextRequest  # noqa: F401 - the font loads when asked for (start-up)
         s = self.session
         colour = BRUSH_NAMES[s.brush] if s.brush else "red"
 

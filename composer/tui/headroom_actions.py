@@ -19,17 +19,18 @@ else:
 import numpy as np
 from textual import work
 
-from ..electrical import led_currents, register_totals
-from ..electrical.counts import column_groups
-from ..electrical.fixes import ResistorFix, allowance, resistor_fix
+# the engine is imported where it is used: the editor paints before it loads (start-up)
+if TYPE_CHECKING:
+    from ..electrical.fixes import ResistorFix
 from ..errors import RowcastError
 from ..profile import COLOURS, bundled_profiles, load_profile
-from ..profile_derive import derived_name, derived_profile_text, write_derived_profile
 from .analysis import CORNER
 from .dialogs import AskText
 from .readout import Readout
 
-__all__ = ["HeadroomActions", "cursor_text"]
+__all__ = ["HeadroomActions", "cursor_text", "FIX_DELAY_S"]
+
+FIX_DELAY_S = 0.3       # the frame's fix is searched once typing pauses (as the animation-wide checks)
 
 
 def cursor_text(frame: np.ndarray, profile, row: int, col: int, led_ma: np.ndarray, totals: np.ndarray) -> str:
@@ -39,6 +40,7 @@ def cursor_text(frame: np.ndarray, profile, row: int, col: int, led_ma: np.ndarr
     state = int(frame[row, col])
     lit = [k for k in range(2) if state & (1 << k)]
     led = " + ".join(f"{COLOURS[k]} {led_ma[row, col, k]:.1f}" for k in lit) + " mA" if lit else "off"
+    from ..electrical.counts import column_groups
     limit = profile.column_register.package_abs_max_ma
     regs = []
     for g, grp in enumerate(column_groups(profile)):
@@ -59,9 +61,12 @@ class HeadroomActions(_Editor):
     # -- the LED under the cursor ------------------------------------------------------------
     def update_cursor_readout(self) -> None:
         s = self.session
+        if len(self.checks.results) != s.anim.n_frames:
+            return                            # before the first check (start-up): the engine is not loaded yet
         key = (id(s.profile), s.frame.tobytes())
         hit = self._cursor_cache.get("frame")
         if hit is None or hit[0] != key:
+            from ..electrical import led_currents, register_totals
             try:
                 hit = (key, led_currents(s.frame[None], s.profile, corner=CORNER)[0],
                        register_totals(s.frame, s.profile, corner=CORNER))
@@ -77,7 +82,9 @@ class HeadroomActions(_Editor):
         """Fix lines for the frame on the canvas when it is over a limit (computed in a worker)."""
         s = self.session
         res = self.checks.results[s.current] if s.current < len(self.checks.results) else None
-        readout = self.query_one(Readout)
+        readout = next(iter(self.query(Readout)), None)
+        if readout is None:
+            return                            # a worker's answer for an editor that was replaced meanwhile
         if res is None or res.ok:
             readout.show_fix([])
             return
@@ -85,11 +92,24 @@ class HeadroomActions(_Editor):
         frame_fix = self._fix_cache.get(key)
         if frame_fix is None:
             readout.show_fix(["fix: working out the resistors…"])
-            self._frame_fix(s.profile, s.frame.copy(), s.current, key)
+            # the search waits until typing pauses: a worker thread holding the interpreter lock
+            # while keys arrive made every key wait for it
+            if self._fix_timer is not None:
+                self._fix_timer.stop()
+            self._fix_timer = self.set_timer(FIX_DELAY_S, self._start_frame_fix)
             return
         readout.show_fix(self._fix_lines(s.profile, frame_fix, s.current))
 
+    def _start_frame_fix(self) -> None:
+        self._fix_timer = None
+        s = self.session
+        key = (id(s.profile), s.frame.tobytes())
+        res = self.checks.results[s.current] if s.current < len(self.checks.results) else None
+        if res is not None and not res.ok and key not in self._fix_cache:
+            self._frame_fix(s.profile, s.frame.copy(), s.current, key)
+
     def _fix_lines(self, profile, frame_fix: ResistorFix, index: int) -> list[str]:
+        from ..electrical.fixes import allowance
         allow = ", ".join(f"{a.per_register} {a.colour}" for a in allowance(profile))
         lines = [f"fix ({CORNER}): at most {allow} on per register in a row"]
         lines.append("fix: " + short_fix(frame_fix, "this frame"))
@@ -99,8 +119,9 @@ class HeadroomActions(_Editor):
                          + (" · F writes it" if pattern_fix.ohm is not None else ""))
         return lines
 
-    @work(thread=True, group="frame-fix")
+    @work(thread=True, group="frame-fix", description="the resistors that fix the frame shown")
     def _frame_fix(self, profile, frame: np.ndarray, index: int, key) -> None:
+        from ..electrical.fixes import resistor_fix
         try:
             fix = resistor_fix(profile, frame[None], [100], scope=f"frame {index}")
         except RowcastError:
@@ -120,6 +141,8 @@ class HeadroomActions(_Editor):
 
     # -- F: write the fix as a derived profile and move the pattern to it ------------------------
     def action_apply_fix(self) -> None:
+        from ..electrical.fixes import resistor_fix
+        from ..profile_derive import derived_name, derived_profile_text, write_derived_profile
         s = self.session
         try:
             fix = resistor_fix(s.profile, s.anim.frames, s.anim.durations_ms)

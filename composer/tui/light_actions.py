@@ -10,8 +10,6 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from ..electrical import CORNERS
-from ..electrical.light import as_lit, light_model
 from ..errors import RowcastError
 from .canvas import lit_shades
 
@@ -30,11 +28,13 @@ class LightActions(_Editor):
         """Shades for ``frame`` as lit at the chosen corner, or None when the view is flat."""
         if self.lit_corner is None:
             return None
+        from ..electrical.light import as_lit     # the light model loads when first asked for (start-up)
         lit = as_lit(np.asarray(frame, np.uint8)[None], self.session.profile, self.lit_corner)
         return lit_shades(lit, 0, true_colour=self.canvas.true_colour)
 
     def _set_lit(self, corner: str | None) -> None:
         if corner is not None:
+            from ..electrical.light import light_model
             try:
                 light_model(self.session.profile)          # the profile's light keys, or a one-line error
             except RowcastError as err:
@@ -55,4 +55,5 @@ class LightActions(_Editor):
 
     def action_lit_corner(self) -> None:
         now = self.lit_corner
+        from ..electrical import CORNERS
         self._set_lit(CORNERS[(CORNERS.index(now) + 1) % len(CORNERS)] if now is not None else "typ")

@@ -75,8 +75,8 @@ class LinkPanel(Vertical):
     def __init__(self, profile: Profile, url: str | None, **kw) -> None:
         super().__init__(**kw)
         self.profile = profile
-        self.sim_url = sim_url(profile)
-        self.url = url or self.sim_url
+        self.sim_url = ""           # after the first paint (_fill_sim_url): the transport loads then
+        self.url = url or ""
         self.auto_connect = url is not None
         self.link = None
         self.live = url is not None
@@ -92,8 +92,7 @@ class LinkPanel(Vertical):
 
     def compose(self) -> ComposeResult:
         yield Label("link to the panel", classes="pane-title")
-        yield Select([(f"simulated receiver ({self.sim_url})", self.sim_url)], prompt="choose a port…",
-                     id="port-select", compact=True)
+        yield Select([], prompt="choose a port…", id="port-select", compact=True)
         yield _UrlInput(self.url, placeholder="any pyserial URL or device path", id="port-url", compact=True)
         with Horizontal(id="link-buttons"):
             yield Button("connect", id="link-connect", compact=True)
@@ -121,13 +120,23 @@ class LinkPanel(Vertical):
             box.set_class(need > width, "-stacked")
 
     def on_mount(self) -> None:
+        self.call_after_refresh(self._fill_sim_url)
         self.call_after_refresh(self._refresh_labels)
         self.set_interval(_POLL_S, self._poll_receiver)
-        self._list_ports()
         if self.auto_connect:
             self.call_after_refresh(self.connect)
 
     # -- port list ----------------------------------------------------------------------------
+    def _fill_sim_url(self) -> None:
+        """The simulated receiver's URL and the port list, once the editor is on screen (importing
+        the transport and pyserial took a tenth of the composer's start-up)."""
+        self.sim_url = sim_url(self.profile)
+        if not self.url:
+            self.url = self.sim_url
+            self.query_one("#port-url", Input).value = self.url
+        self.query_one("#port-select", Select).set_options([(f"simulated receiver ({self.sim_url})", self.sim_url)])
+        self._list_ports()
+
     @work(thread=True, exclusive=True, group="ports", exit_on_error=False)
     def _list_ports(self) -> None:
         try:

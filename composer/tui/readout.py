@@ -26,6 +26,7 @@ _LEVELS = " ▁▂▃▄▅▆▇█"
 _BAD = "bold #ff3a3a"
 _OK = "#3ad13a"
 _OTHER_LINES = 12       # the readout's lines besides the row bars (summary, sparkline, notes)
+_BLANK = Text("", end="")
 
 
 def _bar(value: float, limit: float, width: int) -> tuple[str, bool]:
@@ -62,13 +63,25 @@ def _two_lines(t: Text, upper: str, lower: str, col: int) -> None:
     t.append(lower[col + 1:], _OK)
 
 
+def _styled(lines: list[str], style) -> Text:
+    """``lines`` as one text, each line in ``style`` (or ``style(line)``)."""
+    t = Text()
+    for line in lines:
+        t.append(line + "\n", style(line) if callable(style) else style)
+    return t
+
+
 class Readout(Widget):
-    """Drawn line by line: an edit re-renders only the lines whose text changed (a row's bar, the
-    summary lines, the sparkline), not the whole pane."""
+    """Drawn line by line from five parts: the LED under the cursor, the frame's figures, the fix,
+    the sparkline and the notes. Each part is rebuilt only when its own inputs change (a cursor
+    move rebuilds the cursor line, nothing else), the frame's figures are kept per frame result
+    (stepping back to a frame costs no rebuild), and only the lines whose text changed are
+    refreshed, as one region per run of neighbouring lines."""
 
     DEFAULT_CSS = """
     Readout { height: auto; width: 1fr; }
     """
+    _KEEP = 256               # frame parts kept (by frame result): the frames of a typical pattern
 
     def __init__(self, **kw) -> None:
         super().__init__(**kw)
@@ -78,9 +91,13 @@ class Readout(Widget):
         self._args: tuple | None = None
         self._base: Style | None = None
         self._height = 0
+        self._pane_height = -1
         self._cursor = ""                     # the LED under the cursor (show_cursor)
-        self._cursor_rows = 0                 # lines it took at the last rebuild (1: replace in place)
         self._fix: list[str] = []             # the way to a fix for this frame and the pattern
+        self._parts: dict[str, list[Text]] = {}
+        self._keys: dict[str, object] = {}    # what each part was built from
+        self._frame_parts: dict[tuple, tuple[FrameResult, list[Text]]] = {}
+        self._drawn: dict[int, tuple[Text, int, Strip]] = {}   # strips by line identity
 
     def show(self, checks: FrameChecks, current: int, ms: int, animation_notes: list[str]) -> None:
         self._args = (checks, current, ms, list(animation_notes))
@@ -88,41 +105,111 @@ class Readout(Widget):
 
     def on_resize(self) -> None:
         self._strips.clear()
-        self._height = 0                      # wrapping changes with the width: measure again
+        self._parts.clear()                   # wrapping changes with the width: build again
+        self._keys.clear()
+        self._frame_parts.clear()
+        # the height starts again when the pane's height changed (a new terminal size), not when
+        # only the width did: that made the pane's scroll bar come and go as frames were stepped
+        # through, each change of width coming back here
+        pane = self.parent.size.height if self.parent is not None else 0
+        if pane != self._pane_height:
+            self._pane_height = pane
+            self._height = 0
         self._rebuild(force=True)
+
+    # -- the parts ----------------------------------------------------------------------------
+    def _wrapped(self, t: Text) -> list[Text]:
+        """``t``'s lines, long ones wrapped at the widget's width (nothing is cut off), each one
+        terminal line."""
+        out: list[Text] = []
+        width = self._width
+        for line in t.split("\n") if t.plain else ():
+            out.extend([line] if line.cell_len <= width else line.wrap(self.app.console, width))
+        for line in out:
+            line.end = ""
+        return out
+
+    def _part(self, name: str, key: object, build) -> list[Text]:
+        if name not in self._parts or self._keys.get(name) != key:
+            self._parts[name] = build()
+            self._keys[name] = key
+        return self._parts[name]
+
+    def _frame_part(self, res: FrameResult, current: int, ms: int, width: int) -> list[Text]:
+        columns = self._columns(len(res.row_ma), width)
+        key = (id(res), current, ms, width, columns)
+        hit = self._frame_parts.get(key)
+        if hit is not None and hit[0] is res:
+            return hit[1]
+        t = Text()
+        self._headline(t, res, current, ms, CORNER)
+        if columns:
+            self._row_columns(t, res, width, CORNER)
+        else:
+            self._row_bars(t, res, width, CORNER)
+        self._totals(t, res, CORNER)
+        for line in res.messages[:3]:
+            t.append(f"! {line}\n", _BAD)
+        lines = self._wrapped(t)
+        if len(self._frame_parts) >= self._KEEP:
+            self._frame_parts.clear()
+        self._frame_parts[key] = (res, lines)      # the result is kept, so its id is not reused
+        return lines
+
+    def _assemble(self, width: int) -> list[Text]:
+        checks, current, ms, notes = self._args
+        res: FrameResult | None = checks.results[current] if current < len(checks.results) else None
+        lines = list(self._part("cursor", (self._cursor, width),
+                                lambda: self._wrapped(Text(self._cursor or " "))))
+        if res is None:
+            lines += self._wrapped(_styled(["analysing…"], "dim"))
+            return lines
+        lines += self._frame_part(res, current, ms, width)
+        lines += self._part("fix", (tuple(self._fix), width), lambda: self._wrapped(
+            _styled(self._fix, lambda line: "bold" if line.startswith("fix") else "")))
+        use = checks.utilisations()
+        lines += self._part("spark", (use.tobytes(), current, width),
+                            lambda: self._wrapped(self._sparkline_text(use, current, width)))
+        lines += self._part("notes", (tuple(notes), width), lambda: self._wrapped(
+            _styled(notes, lambda line: _BAD if line.startswith("!") else "dim")))
+        return lines
 
     def _rebuild(self, force: bool = False) -> None:
         if self._args is None:
             return
-        width = self.size.width or 40
-        self._width = width
-        text = self._text(*self._args, width=width)
-        lines = []
-        for k, line in enumerate(text.split("\n", allow_blank=True)):
-            if line.cell_len <= width:
-                lines.append(line)
-            else:                             # long notes wrap; nothing is cut off
-                lines.extend(line.wrap(self.app.console, width))
-            if k == 0:
-                self._cursor_rows = len(lines)
+        self._width = self.size.width or 40      # wrapping; the figures lay out in at least 20
+        lines = self._assemble(max(20, self._width))
         while lines and not lines[-1].plain:
             lines.pop()
-        for line in lines:
-            line.end = ""                     # one terminal line each: no newline segment
-        # the height only grows (blank lines pad a shorter readout): frames with more or fewer
-        # findings then cost no layout pass when the user steps through them
-        self._height = max(self._height, len(lines))
-        lines += [Text("", end="") for _ in range(self._height - len(lines))]
+        # the height only grows, and starts at the pane's height (blank lines pad a shorter
+        # readout): frames with more or fewer findings then cost no layout pass
+        pane = self.parent.scrollable_content_region.height if self.parent is not None else 0
+        height = max(self._height, len(lines), pane)
+        lines += [_BLANK] * (height - len(lines))
         old = self._lines
         self._lines = lines
-        if len(lines) != len(old):
+        if height != self._height or len(old) != len(lines):
+            self._height = height
             self._strips.clear()
             self.refresh(layout=True)
             return
-        for y, (a, b) in enumerate(zip(old, lines)):
-            if force or a != b:
-                self._strips.pop(y, None)
-                self.refresh(Region(0, y, width, 1))
+        changed = [y for y, (a, b) in enumerate(zip(old, lines)) if force or a is not b and a != b]
+        self._refresh_lines(changed)
+
+    def _refresh_lines(self, ys: list[int]) -> None:
+        """One region per run of changed lines (gaps of up to two unchanged lines join a run: the
+        compositor handles one region faster than several, and unchanged lines come from the cache)."""
+        for y in ys:
+            self._strips.pop(y, None)
+        width = self.size.width or self._width
+        start = prev = None
+        for y in ys + [None]:
+            if y is not None and prev is not None and y - prev <= 3:
+                prev = y
+                continue
+            if start is not None:
+                self.refresh(Region(0, start, width, prev - start + 1))
+            start = prev = y
 
     def get_content_height(self, container: Size, viewport: Size, width: int) -> int:
         return max(1, len(self._lines))
@@ -131,6 +218,7 @@ class Readout(Widget):
         super().notify_style_update()
         self._base = None
         self._strips.clear()
+        self._drawn.clear()
 
     def render_line(self, y: int) -> Strip:
         strip = self._strips.get(y)
@@ -141,37 +229,20 @@ class Readout(Widget):
             if y >= len(self._lines):
                 return Strip.blank(width, self._base)
             line = self._lines[y]
-            segments = [Segment(seg.text, self._base + seg.style if seg.style else self._base)
-                        for seg in line.render(self.app.console)]
-            strip = Strip(segments, line.cell_len).extend_cell_length(width, self._base).crop(0, width)
+            # by the line's identity: the lines of a frame's figures are kept, so a frame shown
+            # before draws from here (the line is kept beside its strip, so its id is not reused)
+            hit = self._drawn.get(id(line))
+            if hit is not None and hit[0] is line and hit[1] == width:
+                strip = hit[2]
+            else:
+                segments = [Segment(seg.text, self._base + seg.style if seg.style else self._base)
+                            for seg in line.render(self.app.console)]
+                strip = Strip(segments, line.cell_len).extend_cell_length(width, self._base).crop(0, width)
+                if len(self._drawn) >= 8 * self._KEEP:
+                    self._drawn.clear()
+                self._drawn[id(line)] = (line, width, strip)
             self._strips[y] = strip
         return strip
-
-    def _text(self, checks: FrameChecks, current: int, ms: int, notes: list[str], *,
-              width: int = 40) -> Text:
-        t = Text()
-        width = max(20, width)
-        res: FrameResult | None = checks.results[current] if current < len(checks.results) else None
-        if res is None:
-            t.append((self._cursor or " ") + "\n")
-            t.append("analysing…\n", "dim")
-            return t
-        corner = CORNER
-        t.append((self._cursor or " ") + "\n")           # line 0: the LED under the cursor (show_cursor)
-        self._headline(t, res, current, ms, corner)
-        if self._columns(len(res.row_ma), width):
-            self._row_columns(t, res, width, corner)
-        else:
-            self._row_bars(t, res, width, corner)
-        self._totals(t, res, corner)
-        for line in res.messages[:3]:
-            t.append(f"! {line}\n", _BAD)
-        for line in self._fix:
-            t.append(line + "\n", "bold" if line.startswith("fix") else "")
-        self._use_sparkline(t, checks, current, width, corner)
-        for line in notes:
-            t.append("\n" + line, _BAD if line.startswith("!") else "dim")
-        return t
 
     @staticmethod
     def _headline(t: Text, res: FrameResult, current: int, ms: int, corner: str) -> None:
@@ -225,28 +296,20 @@ class Readout(Widget):
         t.append(f"LED evenness {even} ({corner})\n")
 
     @staticmethod
-    def _use_sparkline(t: Text, checks: FrameChecks, current: int, width: int, corner: str) -> None:
+    def _sparkline_text(use: np.ndarray, current: int, width: int) -> Text:
         """The binding utilisation of every frame: the lower line rises to 100 %, the upper line
         shows how far a frame goes over, so every frame over any limit marks the upper line."""
-        upper, lower, col = sparkline(checks.utilisations(), 1.0, max(8, width - 8), current)
-        t.append(f"nearest limit by frame ({corner} corner)\n", "dim")
+        upper, lower, col = sparkline(use, 1.0, max(8, width - 8), current)
+        t = Text()
+        t.append(f"nearest limit by frame ({CORNER} corner)\n", "dim")
         _two_lines(t, upper, lower, col)
+        return t
 
     # -- the LED under the cursor and the fix: updated without rebuilding the rest ---------------
     def show_cursor(self, text: str) -> None:
-        """Replace the cursor line (a cursor move refreshes one line, not the readout)."""
-        if text == self._cursor:
-            return
-        self._cursor = text
-        new = Text(text)
-        rows = [new] if new.cell_len <= self._width else list(new.wrap(self.app.console, self._width))
-        if self._lines and self._args is not None and len(rows) == self._cursor_rows:
-            for y, line in enumerate(rows):       # same number of lines: replace them in place
-                line.end = ""
-                self._lines[y] = line
-                self._strips.pop(y, None)
-            self.refresh(Region(0, 0, self._width, len(rows)))
-        else:
+        """Replace the cursor line (a cursor move refreshes that line, not the readout)."""
+        if text != self._cursor:
+            self._cursor = text
             self._rebuild()
 
     def show_fix(self, lines: list[str]) -> None:

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import io
 import sys
-import time
+import timeit
 from pathlib import Path
 
 import numpy as np
@@ -33,12 +33,7 @@ from composer.wiring import shift_bytes                              # noqa: E40
 
 
 def _time(fn, repeat: int = 3) -> float:
-    best = float("inf")
-    for _ in range(repeat):
-        t = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t)
-    return best
+    return min(timeit.repeat(fn, number=1, repeat=repeat))
 
 
 def _reference_gif(anim: Animation, scale: int) -> bytes:

@@ -18,12 +18,10 @@ from __future__ import annotations
 
 import contextlib
 import io
-import os
-import resource
 import subprocess
 import sys
 import tempfile
-import time
+import timeit
 import tomllib
 from pathlib import Path
 
@@ -41,12 +39,7 @@ GOAL = 1.5
 
 
 def best(fn, repeat: int = 3) -> float:
-    times = []
-    for _ in range(repeat):
-        t = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t)
-    return min(times)
+    return min(timeit.repeat(fn, number=1, repeat=repeat))
 
 
 def paired(ours, floor, rounds: int = 5) -> tuple[float, float]:
