@@ -61,11 +61,13 @@ def parse_size(text: str) -> tuple[int, int]:
     """``"16x8"`` (columns x rows, as :func:`size_text` writes it; ``×`` and spaces allowed) to
     ``(rows, cols)``; an InputError says what was expected."""
     parts = text.strip().lower().replace("×", "x").replace(" ", "").split("x")
-    if len(parts) != 2 or not all(p.isdigit() for p in parts):
+    # isdecimal, not isdigit: int() refuses digits such as "²" that isdigit takes
+    if len(parts) != 2 or not all(p.isdecimal() for p in parts):
         raise InputError(f"{shorten(text.strip(), 20)}: write the size as columns x rows, e.g. 16x8")
-    cols, rows = int(parts[0]), int(parts[1])
+    # a side of more than 9 digits is out of range anyway (and int() refuses over 4300 digits)
+    cols, rows = (int(p) if len(p) <= 9 else MAX_SIDE + 1 for p in parts)
     if not (1 <= rows <= MAX_SIDE and 1 <= cols <= MAX_SIDE):
-        raise InputError(f"{size_text(rows, cols)}: each side is 1 to {MAX_SIDE} LEDs")
+        raise InputError(f"{shorten(text.strip(), 20)}: each side is 1 to {MAX_SIDE} LEDs")
     return rows, cols
 
 

@@ -30,7 +30,7 @@ from .bundled import resolve_pattern_ref
 from .errors import InputError, did_you_mean, escape_text, shorten
 from .model import MAX_FRAMES, MAX_MS, MAX_SIDE, MIN_MS, Animation, check_led_count, size_text
 from .profile import Profile, load_profile
-from .textfile import find_key_line, line_of, parse_toml, read_text_file
+from .textfile import find_key_line, line_of, other_kind, parse_toml, read_text_file
 
 __all__ = ["PATTERN_FORMAT", "PATTERN_SUFFIX", "GLYPHS", "parse_pattern", "load_pattern", "dump_pattern",
            "save_pattern", "open_pattern", "frame_to_text", "text_to_frame", "check_fits_profile"]
@@ -152,6 +152,8 @@ def _fast_frames(blocks: list[str]) -> np.ndarray | None:
 def parse_pattern(text: str, path: str = "<pattern>") -> Animation:
     w = _Where(path, text)
     data = parse_toml(text, path)
+    if (wrong := other_kind(data, PATTERN_FORMAT)) is not None:
+        raise w.fail(wrong, where="format", line=find_key_line(text, "format"))
     for key in data:
         if key not in _TOP_KEYS:
             raise w.fail(f"unknown key{did_you_mean(key[:100], _TOP_KEYS)}", where=escape_text(key, 60),

@@ -21,7 +21,7 @@ from .profile_schema import (COLOURS, MAX_POINTS, NOT_CONNECTED, OPTIONAL_SECTIO
                              SECTIONS_TOP, ColumnRegister, Chain, Key, Led, Panel, Profile, Register, Resistor,
                              Resistors, RowDriver, Safety, Scan, Supply, number_text, range_text, schema_markdown,
                              unit_text)
-from .textfile import find_where_line, parse_toml, read_text_file
+from .textfile import find_where_line, other_kind, parse_toml, read_text_file
 
 __all__ = [
     "Profile", "Panel", "Register", "Chain", "Supply", "Led", "Resistor", "Resistors", "RowDriver",
@@ -172,6 +172,8 @@ def parse_profile(text: str, path: str = "<profile>") -> Profile:
     """Validate profile TOML text; every problem raises one :class:`InputError`."""
     ctx = _Ctx(path, text)
     data = parse_toml(text, path)
+    if (wrong := other_kind(data, PROFILE_FORMAT)) is not None:
+        raise ctx.fail("format", wrong)
     top = _section(ctx, data, "", "", extra=SECTIONS_TOP)
     for name in SECTIONS_TOP:
         if name not in data and name not in OPTIONAL_SECTIONS:

@@ -11,7 +11,11 @@ from typing import Any
 from .errors import InputError, shorten
 from .model import MAX_FRAMES, MAX_LEDS
 
-__all__ = ["read_text_file", "parse_toml", "find_key_line", "find_where_line", "line_of", "MAX_FILE_BYTES", "shorten"]
+__all__ = ["read_text_file", "parse_toml", "find_key_line", "find_where_line", "line_of", "MAX_FILE_BYTES", "shorten",
+           "other_kind"]
+
+# rowcast's own TOML files by the start of their format tag
+FILE_KINDS = {"rowcast-pattern/": "a pattern file", "rowcast-profile/": "a hardware profile"}
 
 # The largest legal pattern must be readable: MAX_LEDS LEDs of one character each, the worst case being one-LED
 # rows each ended by CRLF (3 bytes an LED), plus a frame's own lines (about 40 bytes; 256 allowed) and 1 MiB for
@@ -124,3 +128,16 @@ def find_where_line(text: str, where: str) -> int | None:
             if leaf == parts[-1] and len(parts) == 1:
                 return line_of(text, headers[index].start())
     return find_key_line(text, leaf)
+
+
+def other_kind(data: Any, expected: str) -> str | None:
+    """The error for another of rowcast's files given in place of this kind (a pattern where a profile goes),
+    read from its ``format`` before any other key, which would only be reported as an unknown key."""
+    fmt = data.get("format") if isinstance(data, dict) else None
+    if not isinstance(fmt, str):
+        return None
+    kind = next((k for prefix, k in FILE_KINDS.items() if fmt.startswith(prefix)), None)
+    wanted = next((k for prefix, k in FILE_KINDS.items() if expected.startswith(prefix)), expected)
+    if kind is None or kind == wanted:
+        return None
+    return f"{shorten(fmt)}: this is {kind}, not {wanted}"

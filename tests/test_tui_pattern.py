@@ -322,6 +322,15 @@ async def test_panel_size_command_pads_on_a_profile_of_that_size(tmp_path):
         assert app.screen.id == "ask-size" and "already 8x8" in screen_text(app)
         await type_in(pilot, app, "sixteen")
         assert "columns x rows, e.g. 16x8" in screen_text(app)
+        # malformed sizes: one line in the dialog, which stays open (no traceback, nothing changed)
+        from textual.widgets import Static
+        for typed, said in (("0x8", "each side is 1 to 256 LEDs"), ("99999x8", "each side is 1 to 256 LEDs"),
+                            ("16x", "columns x rows, e.g. 16x8"), ("\u00b2x8", "columns x rows, e.g. 16x8"),
+                            ("8x" + "9" * 5000, "each side is 1 to 256 LEDs")):
+            await type_in(pilot, app, typed)
+            error = str(app.screen.query_one("#ask-error", Static).render())
+            assert app.screen.id == "ask-size" and said in error and "\n" not in error, (typed[:20], error)
+        assert s.profile.name == "bench-8x8" and np.array_equal(s.anim.frames, before)
         await type_in(pilot, app, "16x8")                                 # 16 columns, 8 rows
         assert app.screen.id == "pick-sized-profile"
         from textual.widgets import OptionList
@@ -348,6 +357,10 @@ async def test_panel_size_command_pads_on_a_profile_of_that_size(tmp_path):
         mine = own_profile(tmp_path)
         await type_in(pilot, app, str(mine))
         assert app.screen.id == "ask-profile-file" and "is 8x8, not 12x8" in screen_text(app)
+        await type_in(pilot, app, str(path))                              # a pattern file, not a profile
+        error = str(app.screen.query_one("#ask-error", Static).render())
+        assert app.screen.id == "ask-profile-file" and path.name in error and "\n" not in error, error
+        assert "this is a pattern file, not a hardware profile" in error
         await pilot.press("escape")
         await pilot.pause()
         assert isinstance(app.screen, EditorScreen) and s.profile.name == "wide-16x8"

@@ -10,6 +10,7 @@ from ..errors import InputError
 from ..generate.image_import import import_image
 from ..generate.pattern_ref import profile_ref_for
 from ..model import MAX_MS, MIN_MS, size_text
+from ..electrical import check_profile
 from ..profile import load_profile
 from ..written import save_pattern_checked
 from ..generate.cli_args import check_pattern_out, ms_arg, warn_if_over
@@ -39,6 +40,7 @@ def run(args: argparse.Namespace) -> int:
     if out.resolve() == Path(args.image).resolve():
         raise InputError(f"-o {out} is the image itself: it would be overwritten")
     profile = load_profile(args.profile)
+    check_profile(profile)     # the circuits check builds: a profile it refuses is refused before writing
     anim = import_image(args.image, profile, fit=args.fit, dither=args.dither, name=args.name, ms=args.ms,
                         profile_ref=profile_ref_for(args.profile, out))
     save_pattern_checked(anim, out)             # read back and parsed before "wrote"

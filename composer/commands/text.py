@@ -14,6 +14,7 @@ from ..generate.led_font import GAP, SIZES
 from ..generate.pattern_ref import profile_ref_for
 from ..generate.text_fix import check_text
 from ..generate.text_scroll import COLOUR_NAMES, DEFAULT_SPEED, FONTS, MAX_SPEED, MIN_SPEED, text_animation
+from ..electrical import check_profile
 from ..profile import load_profile
 from ..written import save_pattern_checked
 
@@ -45,6 +46,7 @@ def configure(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     out = check_pattern_out(args.output)
     profile = load_profile(args.profile)
+    check_profile(profile)     # the circuits check builds: a profile it refuses is refused before writing
     style = dict(speed=args.speed, colour=args.colour, font=args.font, size=args.size, gap=args.gap,
                  pad_start=args.pad_start, pad_end=args.pad_end)
     anim = text_animation(args.message, profile, name=args.name, profile_ref=profile_ref_for(args.profile, out),
