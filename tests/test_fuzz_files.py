@@ -144,8 +144,9 @@ def test_mutated_profiles_exit_0_1_or_2_and_show_and_check_agree(tmp_path_factor
     event(f"profile show exit {shown}")
     assert_clean(shown, err, ["profile", "show"])
     assert shown in (0, 2) and "Infinity" not in out and "NaN" not in out
-    demo = "wide-march.rowcast.toml" if name.startswith("wide") else "kettle-ready.rowcast.toml"
-    args = ["check", str(PATTERNS / demo), "--profile", str(path)]
+    # a demo of the profile's own size, so a refusal of the profile is not hidden behind a size mismatch
+    demo = {"wide": "wide-march", "tiled": "ticket-counter"}.get(name.split("-")[0], "kettle-ready")
+    args = ["check", str(PATTERNS / f"{demo}.rowcast.toml"), "--profile", str(path)]
     checked, _, err2 = run_cli(args)
     assert_clean(checked, err2, args)
     if shown == 2:

@@ -228,3 +228,39 @@ def test_real_entry_point_refuses_a_nested_file_in_one_line(tmp_path):
                           timeout=120)
     assert proc.returncode == 2 and proc.stdout == "" and proc.stderr.count("\n") == 1
     assert pat.read_bytes() == before
+
+
+def test_a_pattern_given_as_a_profile_and_a_profile_as_a_pattern_say_so(tmp_path):
+    """The file's own ``format`` says what it is, before its other keys would be called unknown."""
+    kettle, bench = str(PATTERNS / "kettle-ready.rowcast.toml"), str(PROFILES / "bench-8x8.toml")
+    refused(*run("profile", "show", kettle), kettle, "this is a pattern file, not a hardware profile")
+    refused(*run("check", kettle, "--profile", kettle), kettle, "this is a pattern file, not a hardware profile")
+    refused(*run("check", bench), bench, "this is a hardware profile, not a pattern file")
+    refused(*run("export", bench, "--json", str(tmp_path / "x.json")), bench, "not a pattern file")
+    assert not (tmp_path / "x.json").exists()
+
+
+@pytest.mark.parametrize("command", [["text", "Hi"], ["import", "IMAGE"]])
+def test_a_profile_check_refuses_is_refused_before_import_or_text_writes(tmp_path, command):
+    """A profile that loads but whose circuit cannot be built (I-V points no diode fits) was refused only
+    after import and text had written the pattern and said "wrote"; now nothing is written."""
+    from PIL import Image
+    prof, _ = with_profile(tmp_path, sub(BENCH, ("iv_points = [[1.0, 1.72]", "iv_points = [[1e-310, 1.72]")))
+    image = tmp_path / "i.png"
+    Image.new("RGB", (8, 8), (255, 0, 0)).save(image)
+    out = tmp_path / "made.rowcast.toml"
+    args = [str(image) if a == "IMAGE" else a for a in command]
+    status, stdout, err = run(*args, "--profile", prof, "-o", str(out))
+    refused(status, stdout, err, prof, "iv_points")
+    assert "wrote" not in stdout and not out.exists()
+
+
+def test_a_limit_just_above_zero_is_over_with_no_numpy_warning(tmp_path):
+    """``channel_abs_max_ma = 1e-310`` is inside its range (above 0): every lit row is over it, the
+    utilisation is infinite (null in JSON), and numpy's overflow warning is not printed (``run`` fails on it)."""
+    prof, pat = with_profile(tmp_path, sub(BENCH, ("channel_abs_max_ma = 500.0", "channel_abs_max_ma = 1e-310")))
+    status, out, err = run("check", pat, "--json")
+    assert status == 1 and err == "", err
+    assert json.loads(out)["summary"]["utilisation"]["row-driver-peak"] is None
+    status, out, err = run("export", pat, "--json", str(tmp_path / "k.json"))
+    assert status == 1 and err.count("\n") == 1 and "row-driver-peak" in err, err

@@ -232,7 +232,8 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
     checks: list[tuple] = []
 
     # driver channel peak
-    ratio = row_ma / lim.row_peak_ma
+    with np.errstate(over="ignore"):          # a limit a profile allows near 0 (1e-310 mA): inf, over it
+        ratio = row_ma / lim.row_peak_ma
     r_i = ratio.argmax(axis=1)
     checks.append(("row-driver-peak", row_ma[fa, r_i], lim.row_peak_ma[r_i], "mA",
                    lambda f, r_i=r_i: f"row {r_i[f]}"))
@@ -285,7 +286,8 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
         # disagrees with the report; a frame over a limit has a utilisation >= 1.0, one within < = 1.0
         over = measured > limit
         base = zero[0] if zero else 0.0
-        rule_util[rule] = (measured - base) / (limit - base)
+        with np.errstate(over="ignore"):      # as above: a tiny limit gives inf, reported as null in JSON
+            rule_util[rule] = (measured - base) / (limit - base)
         if not over.any():
             continue
         frame_ok &= ~over
