@@ -124,6 +124,8 @@ async def test_pick_in_the_picked_frames_and_in_the_region(tmp_path):
         # frames 0 and 1 picked: amber LEDs picked in both, delete turns them off in both, not in frame 2
         await pilot.press("s", "]", "s")
         await pick_colour(pilot, app, AMBER)
+        here, total = int((f[1] == AMBER).sum()), int((f[:2] == AMBER).sum())
+        assert f"picked {here} amber LEDs here, {total} in 2 frames" in " ".join(ed._lines["#tool"])
         await pilot.press("delete")
         want = f.copy()
         for i in (0, 1):

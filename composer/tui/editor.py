@@ -135,7 +135,10 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
             flags.append(f"mark row {s.mark[0]} col {s.mark[1]}")
         if s.picked_mask() is not None:
             n, frames = s.leds.count(s.current), len(s.leds.masks)
-            flags.append(f"picked {n} {BRUSH_NAMES[s.leds.colour]} LEDs" + (f" in {frames} frames" if frames > 1 else ""))
+            # n is this frame's count: with several frames the total is said apart from it
+            total = sum(s.leds.count(i) for i in s.leds.masks)
+            flags.append(f"picked {n} {BRUSH_NAMES[s.leds.colour]} LEDs"
+                         + (f" here, {total} in {frames} frames" if frames > 1 else ""))
         if s.wrap:
             flags.append("wrap")
         if self.canvas.mode != "normal":
