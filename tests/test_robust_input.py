@@ -264,3 +264,16 @@ def test_a_limit_just_above_zero_is_over_with_no_numpy_warning(tmp_path):
     assert json.loads(out)["summary"]["utilisation"]["row-driver-peak"] is None
     status, out, err = run("export", pat, "--json", str(tmp_path / "k.json"))
     assert status == 1 and err.count("\n") == 1 and "row-driver-peak" in err, err
+
+
+@pytest.mark.parametrize("line", ["ohms = 150.0", "flash_area_fraction = 1.0", "max_continuous_ma = 20.0"])
+def test_values_just_above_zero_are_checked_not_internal_errors(tmp_path, line):
+    """Each inside its documented range ("above 0"): 1e-310 ohm made the resistor fix find no preferred value,
+    a 1e-310 field share overflowed the flash check's LED count, a 1e-310 mA rating warned on stderr."""
+    key = line.split(" = ")[0]
+    prof, pat = with_profile(tmp_path, sub(BENCH, (line, f"{key} = 1e-310")))
+    for args in (["check", pat, "--json"], ["export", pat, "--json", str(tmp_path / "k.json")]):
+        status, out, err = run(*args)
+        assert status in (0, 1) and "internal error" not in err and err.count("\n") <= 1, (args, status, err)
+        if args[0] == "check":
+            assert err == "" and json.loads(out)["format"] == "rowcast-check/2"

@@ -209,6 +209,9 @@ def _least_busiest(capacities: list[int], top: int) -> np.ndarray:
     return np.searchsorted(holds, np.arange(top), side="left").clip(max=m[-1])
 
 
+# A limit a profile may give just above 0 (1e-310 mA) makes measured / limit overflow: inf is the right answer
+# (far over; null in the JSON), and numpy's warning would be a second line on stderr
+@np.errstate(over="ignore")
 def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile, corner: str, *,
               whole: bool, with_flash: bool = True) -> Report:
     p = _prep(profile, corner)
@@ -232,8 +235,7 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
     checks: list[tuple] = []
 
     # driver channel peak
-    with np.errstate(over="ignore"):          # a limit a profile allows near 0 (1e-310 mA): inf, over it
-        ratio = row_ma / lim.row_peak_ma
+    ratio = row_ma / lim.row_peak_ma
     r_i = ratio.argmax(axis=1)
     checks.append(("row-driver-peak", row_ma[fa, r_i], lim.row_peak_ma[r_i], "mA",
                    lambda f, r_i=r_i: f"row {r_i[f]}"))
@@ -286,8 +288,7 @@ def _evaluate(frames: np.ndarray, durations: np.ndarray | None, profile: Profile
         # disagrees with the report; a frame over a limit has a utilisation >= 1.0, one within < = 1.0
         over = measured > limit
         base = zero[0] if zero else 0.0
-        with np.errstate(over="ignore"):      # as above: a tiny limit gives inf, reported as null in JSON
-            rule_util[rule] = (measured - base) / (limit - base)
+        rule_util[rule] = (measured - base) / (limit - base)
         if not over.any():
             continue
         frame_ok &= ~over

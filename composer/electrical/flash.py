@@ -132,9 +132,10 @@ def _worst_flashes(lazy: "_Lazy", which: int, share: np.ndarray, times: np.ndarr
     """Highest flash count (transitions / 2) that LEDs covering more than 25 % of the field reach
     together in one window. ``lazy[which]``: (boundaries, LEDs) change masks, ``share``: their means."""
     n_leds = lazy.n_leds
-    need = int(math.floor(n_leds * AREA_THRESHOLD / area)) + 1   # LEDs needed to exceed the area
-    if need > n_leds:
+    share_needed = n_leds * AREA_THRESHOLD / area                # inf for an area just above 0 (1e-310)
+    if share_needed >= n_leds:                                  # more than every LED: no flash can cover it
         return 0.0
+    need = int(math.floor(share_needed)) + 1                     # LEDs needed to exceed the area
     index, starts, ends = _windows(times, period)
     csum = np.concatenate([[0.0], np.cumsum(share[index])])
     bound = (csum[ends] - csum[starts]) * n_leds / need          # transitions the needed LEDs could share

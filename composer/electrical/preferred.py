@@ -49,7 +49,7 @@ def series_values(name: str, low: float, high: float) -> list[float]:
     out = []
     for decade in range(math.floor(math.log10(low)) - 1, math.ceil(math.log10(high)) + 1):
         for m in mant:
-            v = round(m * 10.0 ** decade, 10)
+            v = float(f"{m * 10.0 ** decade:.10g}")     # significant digits: round(v, 10) made 1e-310 ohm 0
             if low <= v <= high:
                 out.append(v)
     return out
