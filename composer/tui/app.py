@@ -5,7 +5,6 @@ action in the command palette.
 """
 from __future__ import annotations
 
-import gc
 import time
 from functools import partial
 from pathlib import Path
@@ -133,9 +132,6 @@ class RowcastApp(App[int]):
     def _painted(self) -> None:
         if self.first_paint_s is None:
             self.first_paint_s = time.perf_counter() - self._t0
-            # what start-up built lives as long as the app: out of the collector's sight, a full
-            # collection no longer walks it (those took 60-70 ms, a key's worth of stall each)
-            gc.freeze()
 
     def _offer_recovery(self, screen: EditorScreen) -> None:
         s = screen.session

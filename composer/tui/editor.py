@@ -5,6 +5,8 @@ those edits. Layout in ``rowcast.tcss``.
 """
 from __future__ import annotations
 
+import gc
+
 from textual import on
 from textual.app import ComposeResult
 from textual.containers import Horizontal, Vertical, VerticalScroll
@@ -54,6 +56,7 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         self._autosaved_serial = session.history.serial
         self.animation_notes: list[str] = []
         self.message = ""
+        self._said_error = False
         self._lines: dict[str, object] = {}      # what each fixed line shows now
         self._guard_cache: dict[tuple[int, bytes], str] = {}
         self._cursor_cache: dict[str, tuple] = {}            # per-LED currents of the frame shown
@@ -95,6 +98,10 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
             self.checks.full(self.session.anim)
         self.redraw(full=True)
         self.schedule_animation_check()
+        # what start-up built (Textual, the engine's tables, the first results) lives as long as the
+        # app: out of the collector's sight, a full collection no longer walks it (one took 60-70 ms,
+        # a stall of a key or two)
+        gc.freeze()
 
     # -- redrawing --------------------------------------------------------------------------
     @property
@@ -165,7 +172,9 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
             self.query_one(selector, Static).update(text, layout=False)
 
     def say(self, text: str, *, error: bool = False) -> None:
-        self.message = text
+        if (text, error) == (self.message, self._said_error):
+            return                            # the same line again (paint after paint): nothing to redraw
+        self.message, self._said_error = text, error
         status = self.query_one("#status", Static)
         status.set_class(error, "error")
         status.update(text, layout=False)
