@@ -10,7 +10,7 @@ import gc
 from textual import on
 from textual.app import ComposeResult
 from textual.containers import Horizontal, Vertical, VerticalScroll
-from textual.screen import Screen
+from textual.screen import UPDATE_PERIOD, Screen
 from textual.widgets import Footer, Input, Static
 
 from ..errors import RowcastError
@@ -28,6 +28,7 @@ from .headroom_actions import HeadroomActions
 from .keys import TYPING_ONLY, editor_bindings
 from .light_actions import LightActions
 from .link_actions import LinkActions
+from .pacing import paced_update_timer
 from .pattern_actions import PatternActions
 from .readout import Readout
 from .session import ALL, BRUSH_NAMES, Edited, Session
@@ -61,6 +62,15 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         self._guard_cache: dict[tuple[int, bytes], str] = {}
         self._cursor_cache: dict[str, tuple] = {}            # per-LED currents of the frame shown
         self._fix_cache: dict[object, object] = {}            # fixes by frame content / pattern serial
+        self._paced = None
+
+    @property
+    def _update_timer(self):
+        # Textual's paint timer, except that a late paint waits for the next 60 Hz slot rather than
+        # the one after it (the key after a slow key waited a period more): see pacing.py
+        if self._paced is None:
+            self._paced = paced_update_timer(self, UPDATE_PERIOD, self._on_timer_update)
+        return self._paced
 
     # -- layout -----------------------------------------------------------------------------
     def compose(self) -> ComposeResult:

@@ -14,7 +14,9 @@ and shown is printed beside it.
 
 Frame pacing: Textual paints at most 60 times a second, and after a late paint the next one waits one to
 two 16.7 ms periods. Keys 10 ms after the previous paint (as here) therefore include that wait: the floor
-locks into a steady 6-7 ms, a key that takes longer than the wait pays it on the following key. With
+locks into a steady 6-7 ms, a key that takes longer than the wait paid it on the following key. The editor's
+screen paints from its own timer (composer/tui/pacing.py: the next slot after a late paint, not the one after
+it); the floor keeps Textual's. With
 ``--spaced`` the keys also run 40 ms apart, where the pacing no longer adds to either (informational).
 
 Big panel: the same keypress measurement on a 16-row x 64-column sign at 80x24, where the canvas shows a
