@@ -46,6 +46,13 @@ def need(condition: bool, message: str) -> None:
     pytest.skip(message)
 
 
+# A safety stop for simulated boards, in cycles of the 16 MHz core: every test ends its board with "quit",
+# and pytest-timeout (pyproject.toml) ends a hung test. The simulator runs about 7x faster than real time
+# on this class of machine and keeps running while a loaded test process waits for the CPU, so the former
+# bounds of 20-25 simulated seconds (3-4 s of wall time) ended boards in the middle of tests under load.
+SIM_BOUND_CYCLES = 2000 * 16_000_000
+
+
 def need_simulator() -> None:
     """The firmware build and the simulator harness: avr-gcc, the host gcc, simavr and its headers."""
     for tool in ("make", "avr-gcc", "avr-objcopy", "avr-size", "gcc", "simavr"):

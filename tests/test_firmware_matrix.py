@@ -32,7 +32,7 @@ import tomli_w
 
 from composer.electrical.scan_speed import LIGHT_AT_ONCE_CYCLES
 from composer.profile import bundled_profiles, load_profile
-from tests.conftest import need_simulator
+from tests.conftest import SIM_BOUND_CYCLES, need_simulator
 from transport import Link
 from transport import simboard
 from transport.receiver import MIN_LIGHT_NS
@@ -40,7 +40,7 @@ from transport.simboard import SimBoard, read_records
 
 F = simboard.F_CPU
 SPI_BYTE_CYCLES = 16        # 8 bits at fosc/2 (the board layer's SPI setting; ATmega328P datasheet SPI clock table)
-SIM_BOUND = 20 * F
+
 PROFILE_DIR = Path(__file__).resolve().parent.parent / "patterns" / "profiles"
 
 
@@ -166,7 +166,7 @@ def authored_frames(profile, link: Link, n: int, seed: int) -> list[np.ndarray]:
 def stream_and_record(build_dir, profile, tmp_path: Path, n_frames: int = 3, seed: int = 1):
     recs_path = tmp_path / f"{profile.name}.records"
     period = int(round(profile.scan.row_period_us * F / 1e6))
-    with SimBoard.start(profile, build_dir=build_dir, records=recs_path, max_cycles=SIM_BOUND,
+    with SimBoard.start(profile, build_dir=build_dir, records=recs_path, max_cycles=SIM_BOUND_CYCLES,
                         spi_bits=True) as board:
         with Link(board.port, profile, window=2, handshake_timeout=2.0, reconnect=False) as link:
             frames = authored_frames(profile, link, n_frames, seed)

@@ -18,7 +18,7 @@ import serial
 from composer.electrical import firmware_lit_limit
 from composer.profile import load_profile
 from composer.wiring import decode_shift_bytes, guard_masks, shift_bytes
-from tests.conftest import need_simulator
+from tests.conftest import SIM_BOUND_CYCLES, need_simulator
 from transport import Link
 from transport import protocol as P
 from transport import simboard
@@ -26,7 +26,6 @@ from transport.simboard import SimBoard, latched_shift_bytes, read_records
 
 F = simboard.F_CPU
 WATCHDOG_CYCLES = 16 * F // 1000            # 16 ms (ATmega328P datasheet, from memory)
-SIM_BOUND = 25 * F                          # every run stops by 25 s of simulated time, whatever happens
 
 
 @pytest.fixture(scope="module")
@@ -105,7 +104,7 @@ def test_bench_8x8_end_to_end(build_dir, tmp_path):
     profile = load_profile("bench-8x8")
     recs_path = tmp_path / "records.txt"
     period = int(round(profile.scan.row_period_us * F / 1e6))
-    with SimBoard.start(profile, build_dir=build_dir, records=recs_path, max_cycles=SIM_BOUND) as board:
+    with SimBoard.start(profile, build_dir=build_dir, records=recs_path, max_cycles=SIM_BOUND_CYCLES) as board:
         link = Link(board.port, profile, window=2, handshake_timeout=2.0, reconnect=False)
         with link:
             anim = frames_within(profile, link, 5, seed=11)
@@ -221,7 +220,7 @@ def test_other_chains_and_polarities(build_dir, tmp_path, name):
     recs_path = tmp_path / "records.txt"
     period = int(round(profile.scan.row_period_us * F / 1e6))
     limit = firmware_lit_limit(profile)
-    with SimBoard.start(profile, build_dir=build_dir, records=recs_path, max_cycles=SIM_BOUND) as board:
+    with SimBoard.start(profile, build_dir=build_dir, records=recs_path, max_cycles=SIM_BOUND_CYCLES) as board:
         with Link(board.port, profile, window=2, handshake_timeout=2.0, reconnect=False) as link:
             anim = frames_within(profile, link, 3, seed=5, most=limit)
             board.mark("anim")

@@ -24,7 +24,7 @@ from composer.electrical.spice import row_netlist
 from composer.electrical.timing import scan_timing
 from composer.pattern_file import open_pattern
 from composer.profile import load_profile
-from tests.conftest import need_simulator, need_tool
+from tests.conftest import SIM_BOUND_CYCLES, need_simulator, need_tool
 
 ROOT = Path(__file__).resolve().parent.parent
 TICKETS = ROOT / "patterns" / "ticket-counter.rowcast.toml"
@@ -152,7 +152,7 @@ def test_row_interrupt_cycles_follow_the_stated_formula(tmp_path):
             if blanking_us is not None:
                 prof = dataclasses.replace(prof, scan=dataclasses.replace(prof.scan, blanking_us=blanking_us))
             recs_path = tmp_path / f"{name}.txt"
-            with SimBoard.start(prof, build_dir=build, records=recs_path, max_cycles=20 * f_cpu) as board:
+            with SimBoard.start(prof, build_dir=build, records=recs_path, max_cycles=SIM_BOUND_CYCLES) as board:
                 with Link(board.port, prof, window=1, handshake_timeout=2.0, reconnect=False) as link:
                     frame = np.zeros((prof.rows, prof.cols), np.uint8)
                     frame[:, ::8] = 1
@@ -189,7 +189,7 @@ def stream_tickets(tmp_path, prof, n_frames: int, window: int, scans_between: in
     period = int(round(prof.scan.row_period_us * f_cpu / 1e6))
     build = simboard.build(tmp_path / "build")
     recs_path = tmp_path / "records.txt"
-    with SimBoard.start(prof, build_dir=build, records=recs_path, max_cycles=25 * f_cpu, spi_bits=True) as board:
+    with SimBoard.start(prof, build_dir=build, records=recs_path, max_cycles=SIM_BOUND_CYCLES, spi_bits=True) as board:
         with Link(board.port, prof, window=window, handshake_timeout=2.0, reconnect=False) as link:
             identity = link.identity
             board.mark("frames")
