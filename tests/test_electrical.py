@@ -258,6 +258,10 @@ def test_ieee_1789_flicker_regions():
     assert flicker_region(1000.0, modulation_pct=50.0)[0] == "low-risk"       # 50 < 0.08 * 1000
     assert flicker_region(1000.0, modulation_pct=30.0)[0] == "no-observable-effect"   # 30 < 33.3
     assert flicker_region(60.0)[0] == "elevated-risk"
+    # a low-risk text names the refresh the no-effect bound needs at that modulation: 50 / 0.0333 = 1502 Hz,
+    # and 100 % needs the unrestricted 3000 Hz
+    assert "more than 1502 Hz" in flicker_region(1000.0, modulation_pct=50.0)[1]
+    assert "more than 3000 Hz" in flicker_region(1562.5)[1]
 
 
 def _checker_swap(ms: int, frames: int = 2) -> tuple[np.ndarray, list[int]]:

@@ -54,8 +54,9 @@ def flicker_region(freq_hz: float, modulation_pct: float = 100.0) -> tuple[str, 
         text = f"{m:.0f} % modulation at {f:.0f} Hz: no observable effect (IEEE 1789-2015, from memory)"
     elif low:
         region = "low-risk"
-        text = (f"{m:.0f} % modulation at {f:.0f} Hz: low risk, above the no-observable-effect limit "
-                f"(IEEE 1789-2015, from memory; above 3000 Hz is no-effect)")
+        text = (f"{m:.0f} % modulation at {f:.0f} Hz: low risk but not free of effect (IEEE 1789-2015, "
+                f"from memory; no observable effect at this modulation needs more than "
+                f"{min(3000.0, m / 0.0333):.0f} Hz)")
     else:
         region = "elevated-risk"
         text = (f"{m:.0f} % modulation at {f:.0f} Hz: outside the low-risk region (IEEE 1789-2015, from "
