@@ -19,6 +19,7 @@ from . import autosave
 from .analysis import FrameChecks
 from .anim_checks import AnimationChecks
 from .canvas import GLYPH, LedCanvas
+from .collector import COLLECTOR
 from .draw_actions import DrawActions
 from .file_actions import FileActions
 from .frame_actions import FrameActions
@@ -63,13 +64,14 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         self._cursor_cache: dict[str, tuple] = {}            # per-LED currents of the frame shown
         self._fix_cache: dict[object, object] = {}            # fixes by frame content / pattern serial
         self._paced = None
+        self._collecting = False
 
     @property
     def _update_timer(self):
         # Textual's paint timer, except that a late paint waits for the next 60 Hz slot rather than
         # the one after it (the key after a slow key waited a period more): see pacing.py
         if self._paced is None:
-            self._paced = paced_update_timer(self, UPDATE_PERIOD, self._on_timer_update)
+            self._paced = paced_update_timer(self, UPDATE_PERIOD, self._on_timer_update, COLLECTOR.after_paint)
         return self._paced
 
     # -- layout -----------------------------------------------------------------------------
@@ -112,6 +114,16 @@ class EditorScreen(DrawActions, FrameActions, GenerateActions, LinkActions, Ligh
         # app: out of the collector's sight, a full collection no longer walks it (one took 60-70 ms,
         # a stall of a key or two)
         gc.freeze()
+        # and the collector runs after paints and on a quiet screen, not inside a key (collector.py)
+        if not self._collecting:
+            self._collecting = True
+            COLLECTOR.start()
+            self.set_interval(0.25, COLLECTOR.when_idle, name="idle collection")
+
+    def on_unmount(self) -> None:
+        if self._collecting:
+            self._collecting = False
+            COLLECTOR.stop()
 
     # -- redrawing --------------------------------------------------------------------------
     @property

@@ -26,7 +26,10 @@ def next_slot(start: float, now: float, interval: float) -> int:
 
 
 class NextSlotTimer(Timer):
-    """A repeating timer on a fixed grid that, when it runs late, fires at the next slot."""
+    """A repeating timer on a fixed grid that, when it runs late, fires at the next slot.
+    ``after``, if given, runs after each tick (the editor's garbage collection: collector.py)."""
+
+    after = None
 
     async def _run(self) -> None:
         count = 0
@@ -53,11 +56,15 @@ class NextSlotTimer(Timer):
                 await self._tick(next_timer=next_timer, count=count)
             except EventTargetGone:
                 break
+            if self.after is not None:
+                self.after()
 
 
-def paced_update_timer(screen, interval: float, callback) -> Timer:
-    """The screen's update timer, started paused, as ``Screen._update_timer`` makes it."""
+def paced_update_timer(screen, interval: float, callback, after=None) -> Timer:
+    """The screen's update timer, started paused, as ``Screen._update_timer`` makes it; ``after``
+    runs after each paint."""
     timer = NextSlotTimer(screen, interval, name="screen_update", callback=callback, repeat=None, pause=True)
+    timer.after = after
     timer._start()
     screen._timers.add(timer)
     return timer
