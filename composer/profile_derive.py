@@ -10,11 +10,12 @@ from __future__ import annotations
 import re
 from datetime import datetime, timezone
 from pathlib import Path
+from typing import Mapping
 
 from .errors import InputError
 from .profile import Profile, bundled_profiles, parse_profile
 from .textfile import read_text_file
-from .written import write_checked_text
+from .written import refuse_inputs, write_checked_text
 
 __all__ = ["derived_profile_text", "write_derived_profile", "derived_name"]
 
@@ -69,9 +70,11 @@ def derived_profile_text(profile: Profile, ohms: dict[str, float], *, name: str,
     return new
 
 
-def write_derived_profile(path: str | Path, text: str) -> Path:
-    """Write atomically; a bundled profile is never replaced."""
+def write_derived_profile(path: str | Path, text: str, inputs: Mapping[str, str | Path | None] | None = None) -> Path:
+    """Write atomically; a bundled profile is never replaced, nor any of ``inputs`` (the profile derived
+    from, the pattern: see ``written.refuse_inputs``)."""
     target = Path(path)
+    refuse_inputs(target, "", inputs or {})
     if target.suffix != ".toml":
         raise InputError(f"{target}: a profile file ends in .toml")
     bundled = {p.resolve().parent for p in bundled_profiles().values()}

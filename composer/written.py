@@ -12,17 +12,19 @@ what any later reader of the path gets, not that the disk's surface holds it.
 """
 from __future__ import annotations
 
+import os
 from pathlib import Path
-from typing import Callable
+from typing import Callable, Mapping
 
 import numpy as np
 
 from .atomic import atomic_write_bytes
-from .errors import EXIT_INTERNAL, RowcastError
+from .errors import EXIT_INTERNAL, InputError, RowcastError
 from .model import Animation
 from .pattern_file import dump_pattern, parse_pattern
 
-__all__ = ["WriteCheckError", "Check", "write_checked", "write_checked_text", "save_pattern_checked"]
+__all__ = ["WriteCheckError", "Check", "write_checked", "write_checked_text", "save_pattern_checked",
+           "refuse_inputs"]
 
 # A check gets the bytes read back and returns None when they mean what was meant, else what differs.
 Check = Callable[[bytes], "str | None"]
@@ -32,6 +34,28 @@ class WriteCheckError(RowcastError):
     """A file written but not read back as meant (exit status 70)."""
 
     exit_code = EXIT_INTERNAL
+
+
+def refuse_inputs(out: str | Path, option: str, inputs: Mapping[str, str | Path | None]) -> None:
+    """Refuse an output that names one of the command's own inputs (``{"the pattern itself": path, ...}``:
+    the pattern, its profile file, the image): writing it would replace what the user gave, and a file
+    written without a backup (a netlist) would lose it. Checked before any work, so nothing is written."""
+    target = Path(out)
+    for what, given in inputs.items():
+        if given is None:
+            continue
+        if _same_file(target, Path(given)):
+            label = f"{option} {out}" if option else str(out)
+            raise InputError(f"{label} is the same file as {what}: it would be overwritten")
+
+
+def _same_file(a: Path, b: Path) -> bool:
+    if a.resolve() == b.resolve():
+        return True
+    try:                                  # another name for the same file (a hard link)
+        return os.path.samefile(a, b)
+    except OSError:                       # one of them does not exist yet
+        return False
 
 
 def write_checked(path: str | Path, data: bytes, *, keep_backup: bool = True, check: Check | None = None) -> int:

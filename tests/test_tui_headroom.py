@@ -143,6 +143,35 @@ async def test_fix_key_writes_a_profile_points_the_pattern_at_it_and_undo_restor
         assert s.profile.name == target.stem
 
 
+@async_test
+async def test_fix_key_refuses_to_write_over_the_profile_or_the_pattern(tmp_path):
+    # the dialog says the profile the pattern uses "is not changed": typing its path (or the pattern's)
+    # must be refused in the dialog, with both files left byte for byte as they were
+    from conftest import PROFILES
+    own = tmp_path / "my-panel.toml"
+    own.write_text((PROFILES / "bench-8x8.toml").read_text().replace('name = "bench-8x8"', 'name = "my-panel"', 1))
+    path = _pattern(tmp_path)
+    path.write_text(path.read_text().replace('profile = "bench-8x8"', 'profile = "my-panel.toml"'))
+    before = {p: p.read_bytes() for p in (own, path)}
+    app = app_for(path)
+    async with app.run_test(size=(120, 40)) as pilot:
+        for target in (own, path):
+            await pilot.press("F")
+            await pilot.pause()
+            assert app.screen.id == "ask-fix"
+            app.screen.query_one("#ask-input").value = str(target)
+            await pilot.press("enter")
+            await pilot.pause()
+            assert app.screen.id == "ask-fix"                 # still asking: nothing was written
+            error = str(app.screen.query_one("#ask-error").render())
+            assert "would be overwritten" in error and target.name in error
+            await pilot.press("escape")
+            await pilot.pause()
+        assert app.editor.session.profile.name == "my-panel"
+    assert {p: p.read_bytes() for p in (own, path)} == before
+    assert not list(tmp_path.glob("*.bak"))
+
+
 # ------------------------------------------------------------------------------------------------
 # A 32-row panel: the readout draws its rows as a column chart; its columns against a hand model
 # ------------------------------------------------------------------------------------------------

@@ -8,7 +8,7 @@ from ..generate.bringup import DEFAULT_STEP_MS, DEFAULT_WALK_MS, bringup_animati
 from ..generate.cli_args import check_pattern_out, ms_arg
 from ..generate.pattern_ref import profile_ref_for
 from ..profile import load_profile
-from ..written import save_pattern_checked
+from ..written import refuse_inputs, save_pattern_checked
 
 __all__ = ["configure", "run"]
 
@@ -25,6 +25,7 @@ def configure(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     out = check_pattern_out(args.output)
     profile = load_profile(args.profile)
+    refuse_inputs(out, "-o", {f"the profile {profile.name}": profile.source})
     anim = bringup_animation(profile, step_ms=args.ms, walk_ms=args.walk_ms,
                              profile_ref=profile_ref_for(args.profile, out))
     save_pattern_checked(anim, out)             # read back and parsed before "wrote"

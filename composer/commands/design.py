@@ -17,6 +17,8 @@ from ..electrical.preferred import SERIES
 from ..errors import EXIT_OK, EXIT_VIOLATION, InputError
 from ..pattern_file import open_pattern
 from ..profile import Profile, load_profile
+from ..written import refuse_inputs
+from ..bundled import resolve_pattern_ref
 from ..profile_derive import derived_name, derived_profile_text, write_derived_profile
 
 __all__ = ["configure", "run", "render_design"]
@@ -40,6 +42,7 @@ def configure(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     if args.pattern:
         anim, profile = open_pattern(args.pattern, args.profile)
+        _refuse_inputs(args, profile)
         fix = resistor_fix(profile, anim.frames, anim.durations_ms, scope=str(args.pattern))
         status = _report_fix(args, profile, anim, fix)
         if args.output:
@@ -54,7 +57,9 @@ def run(args: argparse.Namespace) -> int:
     else:
         if args.profile is None or args.target_ma is None:
             raise InputError("design needs --profile and --target-ma (or --pattern FILE)")
-        design = design_resistors(load_profile(args.profile), args.target_ma, series=args.series)
+        profile = load_profile(args.profile)
+        _refuse_inputs(args, profile)
+        design = design_resistors(profile, args.target_ma, series=args.series)
     sys.stdout.write(render_design(design))
     ok = bool(design.check.frame_ok.all())
     if args.output and not args.pattern:
@@ -68,14 +73,25 @@ def run(args: argparse.Namespace) -> int:
     return EXIT_OK if ok else EXIT_VIOLATION
 
 
+def _refuse_inputs(args: argparse.Namespace, profile: Profile) -> None:
+    """-o names a new file: never the profile it derives from, nor the pattern (checked before any work)."""
+    if args.output:
+        refuse_inputs(args.output, "-o", _inputs(profile, args.pattern))
+
+
+def _inputs(profile: Profile, pattern) -> dict:
+    return {f"the profile {profile.name}": profile.source,
+            "the pattern": None if pattern is None else resolve_pattern_ref(pattern)}
+
+
 def _changes(profile: Profile, ohms: dict[str, float]) -> str:
     return ", ".join(f"{name} {profile.resistor.parts[name].ohms:g} -> {v:g} ohm" for name, v in ohms.items())
 
 
-def _write(path: str, profile: Profile, ohms: dict[str, float], why: list[str]) -> Profile:
+def _write(path: str, profile: Profile, ohms: dict[str, float], why: list[str], pattern=None) -> Profile:
     name = derived_name(profile, ohms)
     text = derived_profile_text(profile, ohms, name=name, why=why)
-    write_derived_profile(path, text)
+    write_derived_profile(path, text, _inputs(profile, pattern))
     sys.stdout.write(f"wrote {path}: profile {name} ({_changes(profile, ohms)}); {profile.source} unchanged\n")
     return load_profile(path)
 
@@ -98,7 +114,7 @@ def _report_fix(args: argparse.Namespace, profile: Profile, anim, fix: ResistorF
            f"{_changes(profile, fix.ohm)}.",
            f"With these values the binding rule is {fix.binding} at {100 * fix.utilisation:.0f} % of its limit "
            f"({fix.binding_where}); LEDs are dimmer than on {profile.name}."]
-    derived = _write(args.output, profile, fix.ohm, why)
+    derived = _write(args.output, profile, fix.ohm, why, args.pattern)
     report = analyse(anim.frames, anim.durations_ms, derived, corner="stress")      # read back and verify
     if not report.frame_ok.all():
         sys.stdout.write(f"check: {args.pattern} is still over a limit on {args.output} (please report this)\n")

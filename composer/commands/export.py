@@ -30,7 +30,7 @@ from ..exports.preview import (DEFAULT_SCALE, check_scale, encode_gif, encode_pn
                                png_sheet_picture)
 from ..exports.readback import gif_check, json_check, png_check
 from ..pattern_file import open_pattern
-from ..written import Check, write_checked
+from ..written import Check, refuse_inputs, write_checked
 
 __all__ = ["configure", "run"]
 
@@ -63,8 +63,9 @@ def run(args: argparse.Namespace) -> int:
     if not wanted:
         raise InputError("nothing to export: give --c, --gif, --png and/or --json")
     pattern = resolve_pattern_ref(args.pattern)        # a file, or a bundled demo by name
-    seen: dict[Path, str] = {pattern.resolve(): "the pattern itself"}
+    seen: dict[Path, str] = {}
     for opt, out in wanted.items():
+        refuse_inputs(out, opt, {"the pattern itself": pattern})
         key = out.resolve()
         if key in seen:
             raise InputError(f"{opt} {out} is the same file as {seen[key]}: it would be overwritten")
@@ -78,6 +79,8 @@ def run(args: argparse.Namespace) -> int:
     if args.corner and not args.as_lit:
         raise InputError("--corner chooses the corner of an as-lit preview: add --as-lit")
     anim, profile = open_pattern(pattern, args.profile)
+    for opt, out in wanted.items():
+        refuse_inputs(out, opt, {f"the profile {profile.name}": profile.source})
     lit = as_lit(anim.frames, profile, args.corner or "typ") if args.as_lit else None
 
     # Render everything first, then write: a failure while rendering leaves no file behind.

@@ -3,16 +3,13 @@ GIF becomes a pattern (colour rule in composer/generate/image_import.py and the 
 from __future__ import annotations
 
 import argparse
-from pathlib import Path
-
-from ..errors import InputError
 
 from ..generate.image_import import import_image
 from ..generate.pattern_ref import profile_ref_for
 from ..model import MAX_MS, MIN_MS, size_text
 from ..electrical import check_profile
 from ..profile import load_profile
-from ..written import save_pattern_checked
+from ..written import refuse_inputs, save_pattern_checked
 from ..generate.cli_args import check_pattern_out, ms_arg, warn_if_over
 
 __all__ = ["configure", "run"]
@@ -37,9 +34,9 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     out = check_pattern_out(args.output)
-    if out.resolve() == Path(args.image).resolve():
-        raise InputError(f"-o {out} is the image itself: it would be overwritten")
+    refuse_inputs(out, "-o", {"the image itself": args.image})
     profile = load_profile(args.profile)
+    refuse_inputs(out, "-o", {f"the profile {profile.name}": profile.source})
     check_profile(profile)     # the circuits check builds: a profile it refuses is refused before writing
     anim = import_image(args.image, profile, fit=args.fit, dither=args.dither, name=args.name, ms=args.ms,
                         profile_ref=profile_ref_for(args.profile, out))

@@ -10,7 +10,8 @@ from ..electrical import CORNERS, analyse
 from ..electrical.spice import row_netlist
 from ..errors import EXIT_OK, InputError
 from ..pattern_file import open_pattern
-from ..written import write_checked_text
+from ..bundled import resolve_pattern_ref
+from ..written import refuse_inputs, write_checked_text
 
 __all__ = ["configure", "run"]
 
@@ -26,6 +27,9 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     anim, profile = open_pattern(args.pattern, args.profile)
+    if args.output != "-":      # the netlist is written without a backup: never over an input
+        refuse_inputs(args.output, "-o", {"the pattern": resolve_pattern_ref(args.pattern),
+                                          f"the profile {profile.name}": profile.source})
     if not 0 <= args.frame < anim.n_frames:
         raise InputError(f"--frame {args.frame} is outside 0..{anim.n_frames - 1}", path=args.pattern)
     frame = anim.frames[args.frame]
@@ -42,8 +46,10 @@ def run(args: argparse.Namespace) -> int:
     # ngspice writes the results file in the folder it runs in: name it after the netlist and say to run it
     # there, so nothing lands in whatever folder the user happened to be in
     out = Path(args.output)
-    netlist = row_netlist(profile, frame, row, corner=args.corner, title=title,
-                          data_file=out.with_suffix(".out").name)
+    data_file = out.with_suffix(".out").name
+    if data_file == out.name:          # -o row.out: the results would land on the netlist itself
+        data_file = out.name + ".out"
+    netlist = row_netlist(profile, frame, row, corner=args.corner, title=title, data_file=data_file)
     write_checked_text(args.output, netlist.text, keep_backup=False)   # read back before "wrote"
     folder = shlex.quote(str(out.parent))
     sys.stderr.write(f"wrote {args.output}: {len(netlist.branches)} lit LED branch(es); run "

@@ -16,7 +16,7 @@ from ..generate.text_fix import check_text
 from ..generate.text_scroll import COLOUR_NAMES, DEFAULT_SPEED, FONTS, MAX_SPEED, MIN_SPEED, text_animation
 from ..electrical import check_profile
 from ..profile import load_profile
-from ..written import save_pattern_checked
+from ..written import refuse_inputs, save_pattern_checked
 
 __all__ = ["configure", "run"]
 
@@ -46,6 +46,7 @@ def configure(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     out = check_pattern_out(args.output)
     profile = load_profile(args.profile)
+    refuse_inputs(out, "-o", {f"the profile {profile.name}": profile.source})
     check_profile(profile)     # the circuits check builds: a profile it refuses is refused before writing
     style = dict(speed=args.speed, colour=args.colour, font=args.font, size=args.size, gap=args.gap,
                  pad_start=args.pad_start, pad_end=args.pad_end)

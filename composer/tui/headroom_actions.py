@@ -172,7 +172,9 @@ class HeadroomActions(_Editor):
                 return "type the path of the new profile file (.toml)"
             try:
                 target = write_derived_profile(Path(text).expanduser(),
-                                               derived_profile_text(s.profile, fix.ohm, name=name, why=why))
+                                               derived_profile_text(s.profile, fix.ohm, name=name, why=why),
+                                               {f"the profile {s.profile.name}": s.profile.source,
+                                                "the pattern": s.path})
                 written["profile"] = load_profile(str(target))
                 written["path"] = target
             except RowcastError as err:
