@@ -322,6 +322,8 @@ def resolve_profile_ref(ref: str | Path, *, relative_to: Path | None = None) -> 
         names = bundled_profiles()
         if text in names:
             return names[text]
+        if _is_dir(Path(text)):             # "." or a folder name: say what it is, not "no such profile"
+            raise InputError("is a folder, not a profile file", path=text)
         raise InputError(f'no bundled profile {shorten(text)}{did_you_mean(text[:100], names)}; bundled: '
                          f'{", ".join(sorted(names))}')
     path = Path(text)
@@ -332,8 +334,15 @@ def resolve_profile_ref(ref: str | Path, *, relative_to: Path | None = None) -> 
     except (OSError, ValueError):   # a name too long for the system, or holding a NUL
         found = False
     if not found:
-        raise InputError("profile file not found", path=path)
+        raise InputError("is a folder, not a profile file" if _is_dir(path) else "profile file not found", path=path)
     return path
+
+
+def _is_dir(path: Path) -> bool:
+    try:
+        return path.is_dir()
+    except (OSError, ValueError):
+        return False
 
 
 def bundled_profiles() -> dict[str, Path]:

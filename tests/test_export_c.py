@@ -326,6 +326,24 @@ def test_cli_bad_arguments_exit_2_and_write_nothing(tmp_path, capsys, args, need
     assert [p.name for p in tmp_path.iterdir()] == ["p.rowcast.toml"]
 
 
+@pytest.mark.parametrize("args, needle", [
+    (["--layout", "bitmap"], "--layout applies to the C header"),
+    (["--prefix", "sign"], "--prefix applies to the C header"),
+    (["--progmem"], "--progmem applies to the C header"),
+    (["--scale", "4"], "--scale applies to --gif and --png"),
+])
+def test_cli_an_option_for_an_output_not_asked_for_is_refused(tmp_path, capsys, args, needle):
+    # `export --json x.json --layout bitmap` used to write x.json and drop --layout without a word;
+    # the user meant a header (or a preview) they did not get
+    pat = _pattern(tmp_path)
+    out = tmp_path / "p.json" if "--scale" not in args else tmp_path / "p.h"
+    opt = "--json" if "--scale" not in args else "--c"
+    assert run_cli(["export", str(pat), opt, str(out), *args]) == 2
+    err = capsys.readouterr().err
+    assert needle in err and len(err.strip().splitlines()) == 1
+    assert [p.name for p in tmp_path.iterdir()] == ["p.rowcast.toml"]
+
+
 def test_cli_missing_folder_exit_2(tmp_path, capsys):
     pat = _pattern(tmp_path)
     assert main(["export", str(pat), "--c", str(tmp_path / "no" / "such" / "p.h")]) == 2

@@ -240,6 +240,20 @@ def test_a_pattern_given_as_a_profile_and_a_profile_as_a_pattern_say_so(tmp_path
     assert not (tmp_path / "x.json").exists()
 
 
+@pytest.mark.parametrize("given", [".", "FOLDER", "FOLDER/"])
+def test_a_folder_given_as_a_profile_is_called_a_folder(tmp_path, monkeypatch, given):
+    """``--profile /tmp`` said "profile file not found" and ``profile show .`` "no bundled profile", while
+    ``check /tmp`` says "is a folder, not a file": a folder is named as a folder everywhere."""
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "panels").mkdir()
+    given = given.replace("FOLDER", "panels")
+    pat = str(PATTERNS / "kettle-ready.rowcast.toml")
+    refused(*run("profile", "show", given), "is a folder, not a profile file")
+    refused(*run("check", pat, "--profile", given), "is a folder, not a profile file")
+    refused(*run("text", "Hi", "--profile", given, "-o", "t.rowcast.toml"), "is a folder, not a profile file")
+    assert not (tmp_path / "t.rowcast.toml").exists()
+
+
 @pytest.mark.parametrize("command", [["text", "Hi"], ["import", "IMAGE"]])
 def test_a_profile_check_refuses_is_refused_before_import_or_text_writes(tmp_path, command):
     """A profile that loads but whose circuit cannot be built (I-V points no diode fits) was refused only

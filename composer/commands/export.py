@@ -39,7 +39,7 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("pattern", metavar="PATTERN", help="pattern file (.rowcast.toml) or bundled demo name")
     parser.add_argument("--profile", metavar="NAME|PATH", help="profile to use instead of the pattern's own")
     parser.add_argument("--c", metavar="OUT.h", dest="c_out", help="write C tables (a header file)")
-    parser.add_argument("--layout", choices=LAYOUTS, default="shift",
+    parser.add_argument("--layout", choices=LAYOUTS,
                         help="shift: bytes in shift order, polarity applied (default); bitmap: row masks per "
                              "colour before wiring")
     parser.add_argument("--prefix", metavar="NAME", help="C identifier for the table names (default: from "
@@ -47,7 +47,7 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--progmem", action="store_true", help="place the tables in program memory on AVR")
     parser.add_argument("--gif", metavar="OUT.gif", dest="gif_out", help="write an animated GIF preview")
     parser.add_argument("--png", metavar="OUT.png", dest="png_out", help="write a PNG sprite sheet")
-    parser.add_argument("--scale", type=int, default=DEFAULT_SCALE, metavar="N",
+    parser.add_argument("--scale", type=int, metavar="N",
                         help=f"pixels per LED in previews (default {DEFAULT_SCALE})")
     parser.add_argument("--as-lit", action="store_true", help="previews show each LED's brightness and colour "
                         "from the light model (default: every lit LED alike)")
@@ -70,10 +70,18 @@ def run(args: argparse.Namespace) -> int:
         if key in seen:
             raise InputError(f"{opt} {out} is the same file as {seen[key]}: it would be overwritten")
         seen[key] = opt
+    # an option for an output not asked for would be silently ignored: say so, as for --as-lit below
+    for given, opt in ((args.layout is not None, "--layout"), (args.prefix is not None, "--prefix"),
+                       (args.progmem, "--progmem")):
+        if given and not args.c_out:
+            raise InputError(f"{opt} applies to the C header: give --c OUT.h")
+    if args.scale is not None and not (args.gif_out or args.png_out):
+        raise InputError("--scale applies to --gif and --png previews: give one")
+    scale = DEFAULT_SCALE if args.scale is None else args.scale
     if args.prefix is not None:
         check_prefix(args.prefix)
     if args.gif_out or args.png_out:
-        check_scale(args.scale)
+        check_scale(scale)
     if (args.as_lit or args.corner) and not (args.gif_out or args.png_out):
         raise InputError(f"{'--as-lit' if args.as_lit else '--corner'} applies to --gif and --png previews: give one")
     if args.corner and not args.as_lit:
@@ -92,14 +100,14 @@ def run(args: argparse.Namespace) -> int:
     # Each file is read back and checked against what was made in memory before "wrote" is printed.
     blobs: dict[str, tuple[bytes, Check | None]] = {}
     if args.c_out:
-        blobs["--c"] = (c_header(anim, profile, report, layout=args.layout, prefix=args.prefix,
+        blobs["--c"] = (c_header(anim, profile, report, layout=args.layout or "shift", prefix=args.prefix,
                                  progmem=args.progmem, source_name=pattern.name,
                                  stress_report=stress).encode(), None)
     if args.gif_out:
-        pictures = gif_pictures(anim, args.scale, lit)
+        pictures = gif_pictures(anim, scale, lit)
         blobs["--gif"] = (encode_gif(pictures, anim.durations_ms), gif_check(pictures, anim.durations_ms))
     if args.png_out:
-        sheet = png_sheet_picture(anim, args.scale, lit)
+        sheet = png_sheet_picture(anim, scale, lit)
         blobs["--png"] = (encode_png(sheet), png_check(sheet))
     if args.json_out:
         # the same document as rowcast check --json --corner typ (README: export --json), naming the pattern
