@@ -195,3 +195,24 @@ def test_json_writer_refuses_a_number_json_cannot_hold():
     bad = SimpleNamespace(violations=[Violation(0, "led-peak", "row 0", float("inf"), 20.0, "mA")])
     with pytest.raises(ValueError):
         json_text({"summary": {}, "frames": {}}, bad)
+
+
+@pytest.mark.parametrize("demo", sorted(p.name for p in (ROOT / "patterns").glob("*.rowcast.toml")))
+def test_stuck_scan_line_never_says_no_part_is_overloaded_when_a_frame_is(demo, capsys):
+    # floodlight-overload drives 844 mA through a driver channel rated 500 mA absolute maximum: that
+    # channel is over its rating whether the scan runs or stops, so "no frame overloads a part even with
+    # one row latched on" was false. The rating is read from the profile file with tomllib, not from rowcast.
+    import tomllib
+    status = main(["check", str(ROOT / "patterns" / demo)])
+    out = capsys.readouterr().out
+    stuck = next(line for line in out.splitlines() if line.startswith("stuck scan:"))
+    assert main(["check", str(ROOT / "patterns" / demo), "--json"]) == status
+    doc = json.loads(capsys.readouterr().out)
+    profile = tomllib.loads((ROOT / "patterns" / "profiles" / f"{doc['summary']['profile']}.toml").read_text())
+    over_channel = max(doc["frames"]["worst_row_ma"]) > profile["row_driver"]["channel_abs_max_ma"]
+    if not all(doc["frames"]["ok"]):
+        assert "no frame overloads a part" not in stuck and "already broken" in stuck
+    if over_channel:
+        assert not all(doc["frames"]["ok"])
+    if all(doc["frames"]["ok"]) and not doc["summary"]["stuck_scan"]["frames"]:
+        assert "no frame overloads a part" in stuck

@@ -163,6 +163,11 @@ def render_text(report: Report, pattern: str, ranges: dict | None = None, every_
         parts = ", ".join(f"{k} {int(m.sum())}" for k, m in report.stuck_parts.items() if m.any())
         lines.append(f"stuck scan: if the scan stops on one row, {stuck.size} frame(s) would overload a part at "
                      f"100 % duty ({parts}); first {stuck[:8].tolist()}")
+    elif not np.asarray(report.frame_ok, bool).all():
+        # "no frame overloads a part" would contradict the violations above: the driver channel and the
+        # register outputs of an over-limit frame are over their ratings at any duty, latched or scanning
+        lines.append("stuck scan: one row latched on at 100 % duty overloads no part beyond the limits "
+                     "already broken above")
     else:
         lines.append("stuck scan: no frame overloads a part even with one row latched on at 100 % duty")
     lines.append(f"timing: refresh {t.refresh_hz:.1f} Hz, duty {100 * t.duty:.2f} %, effective duty "
