@@ -277,6 +277,45 @@ def test_rowcast_sim_serves_rowcast_stream(build_dir, tmp_path):
     assert shown == expected, (shown, expected)
 
 
+def test_rowcast_sim_says_so_when_the_simulator_dies(build_dir, tmp_path):
+    """The simulator process killed under ``rowcast sim`` (a crash, the OOM killer): sim used to exit 0
+    without a word, as if stopped on purpose. It must say the simulator stopped, name the port that is gone,
+    and exit 3 (device or link error)."""
+    import os
+    import signal
+    import subprocess
+    import sys
+
+    link_path = tmp_path / "port"
+    sim = subprocess.Popen([sys.executable, "-m", "composer", "sim", "--link", str(link_path), "--build-dir",
+                            str(build_dir), "--seconds", "60"], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+                           text=True)
+    try:
+        first = sim.stdout.readline()
+        assert first.startswith("simulated receiver for"), first
+        children = [int(d) for d in os.listdir("/proc") if d.isdigit()
+                    and _parent_of(int(d)) == sim.pid]
+        assert len(children) == 1, children
+        os.kill(children[0], signal.SIGKILL)
+        _, err = sim.communicate(timeout=30)
+    finally:
+        if sim.poll() is None:
+            sim.kill()
+            sim.wait()
+    assert sim.returncode == 3, err
+    lines = err.strip().splitlines()
+    assert len(lines) == 1 and "simulator stopped by itself" in lines[0] and str(link_path) in lines[0], err
+
+
+def _parent_of(pid: int) -> int | None:
+    """The parent pid from /proc/PID/stat (proc(5): field 4, after the command name in parentheses)."""
+    try:
+        with open(f"/proc/{pid}/stat") as f:
+            return int(f.read().rsplit(")", 1)[1].split()[1])
+    except (OSError, IndexError, ValueError):
+        return None
+
+
 def test_rowcast_sim_bad_input_is_one_line_exit_2(tmp_path):
     import subprocess
     import sys

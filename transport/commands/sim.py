@@ -19,7 +19,7 @@ import sys
 import time
 from pathlib import Path
 
-from composer.errors import EXIT_OK, InputError
+from composer.errors import EXIT_OK, InputError, LinkError
 from composer.profile import load_profile
 
 from .. import simboard, simcache
@@ -76,13 +76,28 @@ def run(args: argparse.Namespace) -> int:
         raise KeyboardInterrupt
 
     previous = signal.signal(signal.SIGTERM, stop_on_term)
+    died = None
     try:
         deadline = None if args.seconds is None else time.monotonic() + args.seconds
         while board.proc.poll() is None and (deadline is None or time.monotonic() < deadline):
             time.sleep(0.1)
+        died = board.proc.poll()
+        why = _last_words(board) if died is not None else ""
     except KeyboardInterrupt:
         pass
     finally:
         board.stop()
         signal.signal(signal.SIGTERM, previous)
+    if died is not None:
+        # the simulator ended without Ctrl-C or --seconds: the port is gone, which is not "done"
+        raise LinkError(f"the simulator stopped by itself (exit status {died}){why}; the port {port} is gone")
     return EXIT_OK
+
+
+def _last_words(board: "simboard.SimBoard") -> str:
+    """The harness's last line on stderr, if it left one (it has exited, so the read ends)."""
+    try:
+        lines = board.proc.stderr.read().strip().splitlines() if board.proc.stderr else []
+    except (OSError, ValueError):
+        lines = []
+    return f": {lines[-1][:200]}" if lines else ""
