@@ -70,7 +70,12 @@ def main(argv: list[str] | None = None) -> int:
         if not argv:
             return _default()
         parser = build_parser(argv[0] if argv[0] in COMMANDS else None)
-        args = parser.parse_args(argv)
+        args, extra = parser.parse_known_args(argv)
+        if extra:       # name the subcommand whose usage the user got wrong, as its own errors do
+            prog = f"rowcast {args.command}" if args.command else "rowcast"
+            sys.stderr.write(f"{prog}: unrecognized arguments: {escape_text(' '.join(extra), 200)} "
+                             f"(see {prog} --help)\n")
+            return EXIT_INPUT
         if args.command is None:
             parser.print_help()
             return EXIT_INPUT

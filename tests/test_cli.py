@@ -39,3 +39,14 @@ def test_usage_errors_are_one_line_exit_2(args):
     proc = rowcast(*args)
     assert proc.returncode == 2
     assert len(proc.stderr.strip().split("\n")) == 1 and "Traceback" not in proc.stderr
+
+
+@pytest.mark.parametrize("args", [["demos", "extra"], ["check", "kettle-ready", "extra"], ["profiles", "--bogus"]])
+def test_an_extra_argument_names_the_subcommand_it_was_given_to(args):
+    # argparse reports a subcommand's leftover arguments from the top-level parser ("rowcast: unrecognized
+    # arguments ... see rowcast --help"), unlike every other usage error of that subcommand
+    proc = rowcast(*args)
+    assert proc.returncode == 2
+    line = proc.stderr.strip()
+    assert "\n" not in line and line.startswith(f"rowcast {args[0]}: unrecognized arguments: {args[-1]}")
+    assert line.endswith(f"(see rowcast {args[0]} --help)")
